@@ -1,0 +1,27 @@
+// Straight-line least squares y = intercept + slope·x with the statistics the
+// modulus report needs (r², residual SD, ASTM E111 slope coefficient of
+// variation). Two-pass (means first) for accuracy; checked against NIST StRD.
+#pragma once
+
+#include <cstddef>
+#include <optional>
+#include <span>
+
+namespace tensile {
+
+struct LineFit {
+    double intercept = 0;
+    double slope = 0;
+    double r2 = 0;
+    double residual_sd = 0;
+    std::size_t count = 0;
+
+    // ASTM E111 style: V1 = 100·√((1/r² − 1)/(K − 2)), in %.
+    [[nodiscard]] double slope_cv_pct() const;
+};
+
+// Fits over x[i], y[i] for i in [first, last). Empty when fewer than 3 points
+// or when x does not vary.
+std::optional<LineFit> fit_line(std::span<const double> x, std::span<const double> y);
+
+}  // namespace tensile

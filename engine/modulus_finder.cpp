@@ -1,0 +1,134 @@
+// Modulus search; see modulus_finder.hpp. Candidate windows are stress bands of
+// a fixed share of the top stress, stepped by a quarter of their width.
+#include "modulus_finder.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <vector>
+
+#include "least_squares.hpp"
+
+namespace tensile {
+
+namespace {
+
+constexpr std::size_t min_points = 8;
+
+struct Candidate {
+    double low, high;
+    std::size_t first, last;
+    LineFit line;       // strain on stress
+    bool straight;      // its two halves agree in slope
+    [[nodiscard]] double E() const { return 1.0 / line.slope; }
+};
+
+std::size_t first_at_or_above(std::span<const double> running_max, double value) {
+    return static_cast<std::size_t>(std::lower_bound(running_max.begin(), running_max.end(), value) -
+                                    running_max.begin());
+}
+
+std::optional<LineFit> fit_range(std::span<const double> strain, std::span<const double> stress, std::size_t first,
+                                 std::size_t last) {
+    return fit_line(stress.subspan(first, last - first), strain.subspan(first, last - first));
+}
+
+std::optional<Candidate> fit_band(std::span<const double> strain, std::span<const double> stress,
+                                  std::span<const double> running_max, double low, double high, double tolerance) {
+    const std::size_t first = first_at_or_above(running_max, low);
+    const std::size_t last = first_at_or_above(running_max, high);
+    if (last <= first || last - first < min_points) return std::nullopt;
+    auto line = fit_range(strain, stress, first, last);
+    if (!line || !(line->slope > 0)) return std::nullopt;
+    Candidate c{low, high, first, last, *line, false};
+
+    // Straightness: the halves' slopes differ by less than the tolerance, or by
+    // less than three standard errors when noise is what separates them.
+    const std::size_t mid = first_at_or_above(running_max, 0.5 * (low + high));
+    if (mid - first >= min_points / 2 && last - mid >= min_points / 2) {
+        auto a = fit_range(strain, stress, first, mid);
+        auto b = fit_range(strain, stress, mid, last);
+        if (a && b && a->slope > 0 && b->slope > 0) {
+            auto se = [](const LineFit& f, std::span<const double> x) {
+                double m = 0, sxx = 0;
+                for (double v : x) m += v;
+                m /= static_cast<double>(x.size());
+                for (double v : x) sxx += (v - m) * (v - m);
+                return sxx > 0 ? f.residual_sd / std::sqrt(sxx) : INFINITY;
+            };
+            const double se_a = se(*a, stress.subspan(first, mid - first));
+            const double se_b = se(*b, stress.subspan(mid, last - mid));
+            const double diff = std::abs(a->slope - b->slope);
+            c.straight = diff <= tolerance * line->slope || diff <= 3.0 * std::hypot(se_a, se_b);
+        }
+    }
+    return c;
+}
+
+ModulusFit to_fit(const Candidate& c) {
+    ModulusFit f;
+    f.E_MPa = c.E();
+    f.toe = c.line.intercept;
+    f.r2 = c.line.r2;
+    f.cv_pct = c.line.slope_cv_pct();
+    f.residual_sd = c.line.residual_sd * f.E_MPa;
+    f.low_MPa = c.low;
+    f.high_MPa = c.high;
+    f.first = c.first;
+    f.last = c.last;
+    return f;
+}
+
+}  // namespace
+
+std::optional<ModulusFit> find_modulus(std::span<const double> strain, std::span<const double> stress,
+                                       std::span<const double> running_max, const Profile& profile) {
+    if (running_max.empty()) return std::nullopt;
+    const double tolerance = profile.modulus_slope_tolerance;
+    if (profile.modulus_window) {
+        auto c = fit_band(strain, stress, running_max, profile.modulus_window->low_MPa,
+                          profile.modulus_window->high_MPa, tolerance);
+        if (!c) return std::nullopt;
+        return to_fit(*c);
+    }
+
+    const double top = running_max.back();
+    const double base = std::max(0.0, running_max.front());
+    const double width = profile.modulus_window_share * top;
+    if (!(top > base + width)) return std::nullopt;
+    const double step = width / 4.0;
+
+    std::vector<Candidate> bands;
+    for (double low = base; low + width <= top; low += step)
+        if (auto c = fit_band(strain, stress, running_max, low, low + width, tolerance)) bands.push_back(*c);
+    if (bands.empty()) return std::nullopt;
+
+    // The steepest straight band that also fits at least as well as the
+    // profile asks; failing that, the steepest straight one; failing that, the
+    // best-fitting one.
+    auto pick = [&](auto&& accept) {
+        std::size_t best = bands.size();
+        for (std::size_t i = 0; i < bands.size(); ++i)
+            if (accept(bands[i]) && (best == bands.size() || bands[i].E() > bands[best].E())) best = i;
+        return best;
+    };
+    std::size_t best = pick([&](const Candidate& c) { return c.straight && c.line.r2 >= profile.modulus_min_r2; });
+    if (best == bands.size()) best = pick([](const Candidate& c) { return c.straight; });
+    if (best == bands.size()) {
+        best = 0;
+        for (std::size_t i = 1; i < bands.size(); ++i)
+            if (bands[i].line.r2 > bands[best].line.r2) best = i;
+    }
+
+    // Widen to contiguous straight neighbours of nearly the same slope, which
+    // averages the noise that made one band the steepest.
+    const double keep = (1.0 - tolerance) * bands[best].E();
+    std::size_t lo = best, hi = best;
+    while (lo > 0 && bands[lo - 1].straight && bands[lo - 1].E() >= keep) --lo;
+    while (hi + 1 < bands.size() && bands[hi + 1].straight && bands[hi + 1].E() >= keep) ++hi;
+    if (lo == hi) return to_fit(bands[best]);
+    auto merged = fit_band(strain, stress, running_max, bands[lo].low, bands[hi].high, tolerance);
+    if (!merged) return to_fit(bands[best]);
+    return to_fit(*merged);
+}
+
+}  // namespace tensile
