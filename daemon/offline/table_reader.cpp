@@ -1,0 +1,229 @@
+// Delimited-text reader for recorded runs; see table_reader.hpp.
+#include "table_reader.hpp"
+
+#include <algorithm>
+#include <cctype>
+#include <charconv>
+#include <cmath>
+
+namespace tensile {
+
+namespace {
+
+std::string lower(std::string_view s) {
+    std::string out(s);
+    for (auto& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+    return out;
+}
+
+std::string_view trim(std::string_view s) {
+    while (!s.empty() && (s.front() == ' ' || s.front() == '\t' || s.front() == '"')) s.remove_prefix(1);
+    while (!s.empty() && (s.back() == ' ' || s.back() == '\t' || s.back() == '\r' || s.back() == '"')) s.remove_suffix(1);
+    return s;
+}
+
+// Splits on `sep`, reusing `cells`.
+void split(std::string_view line, char sep, std::vector<std::string_view>& cells) {
+    cells.clear();
+    std::size_t start = 0;
+    while (true) {
+        const std::size_t at = line.find(sep, start);
+        cells.push_back(trim(line.substr(start, at == std::string_view::npos ? std::string_view::npos : at - start)));
+        if (at == std::string_view::npos) break;
+        start = at + 1;
+    }
+}
+
+enum class Quantity { time, force, extension, crosshead, other };
+
+struct HeaderColumn {
+    Quantity quantity = Quantity::other;
+    std::string unit;  // as written, lower case; empty when none
+};
+
+// "force_kN", "Force [kN]", "force (kN)", "F" → force in kN.
+HeaderColumn understand(std::string_view raw) {
+    // Names compare in lower case; units keep their case (SI: mN is not MN).
+    std::string_view name = trim(raw);
+    std::string_view unit;
+    if (auto open = name.find_first_of("[("); open != std::string_view::npos) {
+        const auto close = name.find_first_of("])", open);
+        unit = trim(name.substr(open + 1, close == std::string_view::npos ? std::string_view::npos : close - open - 1));
+        name = trim(name.substr(0, open));
+    } else if (auto us = name.rfind('_'); us != std::string_view::npos) {
+        unit = name.substr(us + 1);
+        name = name.substr(0, us);
+    }
+    const std::string key = lower(name);
+    HeaderColumn c;
+    c.unit = std::string(unit);
+    if (key == "time" || key == "t") c.quantity = Quantity::time;
+    else if (key == "force" || key == "load" || key == "f") c.quantity = Quantity::force;
+    else if (key == "extension" || key == "ext" || key == "extensometer") c.quantity = Quantity::extension;
+    else if (key == "crosshead" || key == "position" || key == "xh") c.quantity = Quantity::crosshead;
+    return c;
+}
+
+bool parse_number(std::string_view cell, bool decimal_comma, double& out) {
+    if (cell.empty()) {
+        out = absent;
+        return true;
+    }
+    char buf[64];
+    if (cell.size() >= sizeof buf) return false;
+    std::size_t n = 0;
+    for (char c : cell) buf[n++] = decimal_comma && c == ',' ? '.' : c;
+    const char* first = buf;
+    if (*first == '+') ++first;
+    auto [ptr, ec] = std::from_chars(first, buf + n, out);
+    return ec == std::errc() && ptr == buf + n && std::isfinite(out);
+}
+
+std::string show(std::string_view cell) {
+    std::string s(cell.substr(0, 40));
+    return "'" + s + (cell.size() > 40 ? "...'" : "'");
+}
+
+const char* quantity_name(Quantity q) {
+    switch (q) {
+        case Quantity::time: return "time";
+        case Quantity::force: return "force";
+        case Quantity::extension: return "extension";
+        case Quantity::crosshead: return "crosshead";
+        case Quantity::other: return "other";
+    }
+    return "?";
+}
+
+}  // namespace
+
+Result<TableLayout> parse_column_spec(std::string_view spec, TableLayout layout) {
+    std::vector<std::string_view> parts;
+    split(spec, ',', parts);
+    for (auto part : parts) {
+        const auto eq = part.find('=');
+        const std::string key = lower(trim(part.substr(0, eq)));
+        int number = 0;
+        const auto value = eq == std::string_view::npos ? std::string_view{} : trim(part.substr(eq + 1));
+        auto [ptr, ec] = std::from_chars(value.data(), value.data() + value.size(), number);
+        if (eq == std::string_view::npos || ec != std::errc() || ptr != value.data() + value.size() || number < 1)
+            return Error{"--columns: '" + std::string(part) +
+                         "' should be NAME=NUMBER with a column number from 1, e.g. force=2"};
+        if (key == "time") layout.time_column = number;
+        else if (key == "force") layout.force_column = number;
+        else if (key == "extension") layout.extension_column = number;
+        else if (key == "crosshead") layout.crosshead_column = number;
+        else
+            return Error{"--columns: unknown column name '" + key + "'; expected time, force, extension or crosshead"};
+    }
+    return layout;
+}
+
+Result<Table> read_table(std::string_view text, const TableLayout& layout) {
+    Table table;
+    std::vector<std::string_view> cells;
+    std::size_t pos = 0, line_no = 0;
+    char sep = 0;
+    bool decimal_comma = false;
+    int col[4] = {layout.time_column, layout.force_column, layout.extension_column, layout.crosshead_column};
+    double force_scale = layout.force_unit ? newtons_per(*layout.force_unit) : 1.0;
+    double length_scale[2] = {1.0, 1.0};
+    if (layout.length_unit) length_scale[0] = length_scale[1] = millimetres_per(*layout.length_unit);
+    double time_scale = layout.time_scale;
+    bool header_seen = false;
+    std::size_t width = 0;
+
+    while (pos < text.size()) {
+        const std::size_t end = std::min(text.find('\n', pos), text.size());
+        std::string_view line = text.substr(pos, end - pos);
+        pos = end + 1;
+        ++line_no;
+        if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+        if (trim(line).empty() || line.front() == '#') continue;
+
+        if (!sep) {
+            // The separator is whichever of tab, ';' or ',' the first line uses
+            // most; ';' or tab with commas inside numbers means decimal commas.
+            const auto count = [&](char c) { return std::count(line.begin(), line.end(), c); };
+            sep = count('\t') > 0 ? '\t' : count(';') > 0 ? ';' : ',';
+        }
+        split(line, sep, cells);
+
+        if (!header_seen) {
+            header_seen = true;
+            double probe = 0;
+            if (!parse_number(cells[0], sep != ',', probe)) {  // a header line
+                width = cells.size();
+                for (std::size_t c = 0; c < cells.size(); ++c) {
+                    const auto h = understand(cells[c]);
+                    if (h.quantity == Quantity::other) continue;
+                    int& slot = col[static_cast<int>(h.quantity)];
+                    if (slot == 0) slot = static_cast<int>(c + 1);
+                    if (slot != static_cast<int>(c + 1) || h.unit.empty()) continue;
+                    if (h.quantity == Quantity::force && !layout.force_unit) {
+                        auto u = parse_force_unit(h.unit);
+                        if (!u) return Error{"line " + std::to_string(line_no) + ", column " + std::to_string(c + 1) +
+                                             ": unknown force unit '" + h.unit + "'; expected N, kN, lbf or kgf"};
+                        force_scale = newtons_per(*u);
+                    } else if ((h.quantity == Quantity::extension || h.quantity == Quantity::crosshead) &&
+                               !layout.length_unit) {
+                        auto u = parse_length_unit(h.unit);
+                        if (!u) return Error{"line " + std::to_string(line_no) + ", column " + std::to_string(c + 1) +
+                                             ": unknown length unit '" + h.unit + "'; expected mm, um or in"};
+                        length_scale[h.quantity == Quantity::extension ? 0 : 1] = millimetres_per(*u);
+                    } else if (h.quantity == Quantity::time && layout.time_scale == 1.0) {
+                        if (h.unit == "ms") time_scale = 0.001;
+                        else if (h.unit == "min") time_scale = 60.0;
+                        else if (h.unit != "s")
+                            return Error{"line " + std::to_string(line_no) + ", column " + std::to_string(c + 1) +
+                                         ": unknown time unit '" + h.unit + "'; expected s, ms or min"};
+                    }
+                }
+                continue;
+            }
+            width = cells.size();
+            if (col[1] == 0) {  // no header, no layout: the table order
+                col[0] = 1;
+                col[1] = 2;
+                col[2] = width >= 3 ? 3 : 0;
+                col[3] = width >= 4 ? 4 : 0;
+            }
+        }
+        if (col[1] == 0)
+            return Error{"no force column: name one in the header (force, force_N, force_kN...) or give --columns force=N"};
+        if (col[0] == 0 && !layout.rate_hz)
+            return Error{"no time column: name one in the header (time_s) or give --rate HZ for evenly sampled data"};
+        if (table.frames.empty()) {
+            // Decimal commas: only possible when ',' is not the separator.
+            decimal_comma = sep != ',' && line.find(',') != std::string_view::npos;
+        }
+
+        Frame f;
+        double* dest[4] = {&f.time_s, &f.force_N, &f.extension_mm, &f.crosshead_mm};
+        for (int q = 0; q < 4; ++q) {
+            if (col[q] == 0) continue;
+            if (static_cast<std::size_t>(col[q]) > cells.size())
+                return Error{"line " + std::to_string(line_no) + ": " + std::to_string(cells.size()) +
+                             " columns, but " + quantity_name(static_cast<Quantity>(q)) + " is column " +
+                             std::to_string(col[q]) + "; expected " + std::to_string(std::max<std::size_t>(width, col[q])) +
+                             " columns as on the first line"};
+            const auto cell = cells[static_cast<std::size_t>(col[q] - 1)];
+            if (!parse_number(cell, decimal_comma, *dest[q]))
+                return Error{"line " + std::to_string(line_no) + ", column " + std::to_string(col[q]) + " (" +
+                             quantity_name(static_cast<Quantity>(q)) + "): " + show(cell) +
+                             " is not a number; expected a decimal number such as 1523.4, or an empty cell"};
+        }
+        if (col[0] == 0) f.time_s = static_cast<double>(table.frames.size()) / *layout.rate_hz;
+        else f.time_s *= time_scale;
+        f.force_N *= force_scale;
+        f.extension_mm *= length_scale[0];
+        f.crosshead_mm *= length_scale[1];
+        table.frames.push_back(f);
+    }
+    if (table.frames.empty()) return Error{"no data rows: expected lines of numbers after an optional header"};
+    table.notes.push_back(std::string("separator '") + (sep == '\t' ? "tab" : std::string(1, sep)) + "'" +
+                          (decimal_comma ? ", decimal comma" : ""));
+    return table;
+}
+
+}  // namespace tensile

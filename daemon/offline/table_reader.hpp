@@ -1,0 +1,48 @@
+// Reads a recorded run from delimited text: the table CSV that `tensile-sim
+// --format table` and `tensilectl export` write (header
+// `time_s,force_N,extension_mm,crosshead_mm`, extra columns ignored), and the
+// usual variants a lab has lying around: `;` or tab separators, decimal
+// commas, units in the header (`force_kN`, `Force [lbf]`, `ext (in)`), columns
+// picked by number, no time column with a known sample rate.
+//
+// Pure: text in, frames out. Any bad cell stops the read with one message
+// naming the line, the column and what was expected; nothing half-read is
+// returned.
+#pragma once
+
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "engine/frame.hpp"
+#include "engine/result.hpp"
+#include "engine/units.hpp"
+
+namespace tensile {
+
+struct TableLayout {
+    // 1-based column numbers; 0 means 'find it by the header'.
+    int time_column = 0;
+    int force_column = 0;
+    int extension_column = 0;
+    int crosshead_column = 0;
+    // Units when the header doesn't say; a header unit wins over nothing, a
+    // unit given here wins over the header.
+    std::optional<ForceUnit> force_unit;
+    std::optional<LengthUnit> length_unit;
+    double time_scale = 1.0;          // seconds per time unit in the file
+    std::optional<double> rate_hz;    // when there is no time column
+};
+
+struct Table {
+    std::vector<Frame> frames;
+    std::vector<std::string> notes;   // how columns were understood, for the user
+};
+
+Result<Table> read_table(std::string_view text, const TableLayout& layout = {});
+
+// Parses "time=1,force=2,extension=3,crosshead=4" into a layout.
+Result<TableLayout> parse_column_spec(std::string_view spec, TableLayout base = {});
+
+}  // namespace tensile

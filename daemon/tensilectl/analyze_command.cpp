@@ -1,0 +1,192 @@
+// `tensilectl analyze`: reads a table, builds the specimen and profile from the
+// options, runs the analyzer frame by frame and prints results (text or JSON).
+// Bad input (file, options, cells) ends with one message on stderr naming what
+// was wrong and what was expected, and exit code 2.
+#include "analyze_command.hpp"
+
+#include <cerrno>
+#include <cstring>
+#include <fstream>
+#include <iostream>
+#include <memory>
+#include <sstream>
+
+#include "daemon/offline/results_json.hpp"
+#include "daemon/offline/table_reader.hpp"
+#include "engine/analyzer.hpp"
+#include "engine/specimen.hpp"
+
+namespace tensile::ctl {
+
+namespace {
+
+struct AnalyzeOptions {
+    std::string file;
+    double area = 0, width = 0, thickness = 0, diameter = 0, wall = 0;
+    double gauge_length = 0, proportional = 0, parallel_length = 0;
+    std::string columns, force_unit, length_unit, time_unit = "s", stress_unit = "MPa";
+    double rate_hz = 0;
+    std::vector<double> offsets{0.2};
+    std::vector<double> totals{0.5};
+    std::string modulus_window;
+    double extensometer_range = 0;
+    bool json = false;
+    bool events = false;
+};
+
+struct BadInput {
+    std::string message;
+};
+
+Specimen specimen_from(const AnalyzeOptions& o) {
+    Specimen s;
+    const int shapes = (o.area > 0) + (o.width > 0 || o.thickness > 0) + (o.diameter > 0);
+    if (shapes != 1)
+        throw BadInput{"give the cross-section one way: --area, or --width with --thickness, or --diameter "
+                       "(with --wall for a tube)"};
+    if (o.area > 0) {
+        s.shape = SectionShape::given_area;
+        s.area_mm2 = o.area;
+    } else if (o.width > 0 || o.thickness > 0) {
+        s.shape = SectionShape::rectangular;
+        s.width_mm = o.width;
+        s.thickness_mm = o.thickness;
+    } else {
+        s.shape = o.wall > 0 ? SectionShape::tube : SectionShape::round;
+        s.diameter_mm = o.diameter;
+        s.wall_mm = o.wall;
+    }
+    if ((o.gauge_length > 0) == (o.proportional > 0))
+        throw BadInput{"give the gauge length one way: --gauge-length MM, or --proportional 5.65 (or 11.3)"};
+    s.gauge_length_mm = o.gauge_length;
+    s.proportional_factor = o.proportional;
+    s.parallel_length_mm = o.parallel_length;
+    return s;
+}
+
+Profile profile_from(const AnalyzeOptions& o) {
+    Profile p;
+    p.proof_offsets_pct = o.offsets;
+    p.total_extensions_pct = o.totals;
+    for (double x : o.offsets)
+        if (!(x > 0 && x < 20)) throw BadInput{"--offset " + std::to_string(x) + ": expected a plastic extension in % between 0 and 20, e.g. 0.2"};
+    for (double x : o.totals)
+        if (!(x > 0 && x < 50)) throw BadInput{"--total " + std::to_string(x) + ": expected a total extension in % between 0 and 50, e.g. 0.5"};
+    if (!o.modulus_window.empty()) {
+        StressWindow w;
+        char colon = 0;
+        std::istringstream in(o.modulus_window);
+        if (!(in >> w.low_MPa >> colon >> w.high_MPa) || colon != ':' || !(w.low_MPa >= 0) || !(w.high_MPa > w.low_MPa) ||
+            !in.eof())
+            throw BadInput{"--modulus-window '" + o.modulus_window + "': expected LOW:HIGH in MPa with LOW < HIGH, e.g. 40:160"};
+        p.modulus_window = w;
+    }
+    p.extensometer_range_mm = o.extensometer_range;
+    return p;
+}
+
+TableLayout layout_from(const AnalyzeOptions& o) {
+    TableLayout layout;
+    if (!o.columns.empty()) {
+        auto parsed = parse_column_spec(o.columns);
+        if (!parsed) throw BadInput{parsed.error()};
+        layout = *parsed;
+    }
+    if (!o.force_unit.empty()) {
+        layout.force_unit = parse_force_unit(o.force_unit);
+        if (!layout.force_unit) throw BadInput{"--force-unit '" + o.force_unit + "': expected N, kN, lbf or kgf"};
+    }
+    if (!o.length_unit.empty()) {
+        layout.length_unit = parse_length_unit(o.length_unit);
+        if (!layout.length_unit) throw BadInput{"--length-unit '" + o.length_unit + "': expected mm, um or in"};
+    }
+    if (o.time_unit == "ms") layout.time_scale = 0.001;
+    else if (o.time_unit == "min") layout.time_scale = 60;
+    else if (o.time_unit != "s") throw BadInput{"--time-unit '" + o.time_unit + "': expected s, ms or min"};
+    if (o.rate_hz > 0) layout.rate_hz = o.rate_hz;
+    return layout;
+}
+
+std::string read_file(const std::string& path) {
+    std::ifstream in(path, std::ios::binary);
+    if (!in) throw BadInput{"cannot open '" + path + "': " + std::strerror(errno)};
+    std::ostringstream all;
+    all << in.rdbuf();
+    return all.str();
+}
+
+int run(const AnalyzeOptions& o) {
+    const auto geometry = check(specimen_from(o));
+    if (!geometry) throw BadInput{geometry.error()};
+    const auto stress_unit = parse_stress_unit(o.stress_unit);
+    if (!stress_unit) throw BadInput{"--stress-unit '" + o.stress_unit + "': expected MPa, ksi or psi"};
+    const auto profile = profile_from(o);
+    const auto layout = layout_from(o);
+
+    const std::string text = read_file(o.file);
+    auto table = read_table(text, layout);
+    if (!table) throw BadInput{o.file + ": " + table.error()};
+
+    Analyzer analyzer(*geometry, profile);
+    std::vector<Event> events;
+    for (const auto& f : table->frames) analyzer.push(f, events);
+    const Results results = analyzer.finish();
+
+    if (o.json) {
+        auto j = to_json(results);
+        j["frames"] = table->frames.size();
+        if (o.events) j["events"] = to_json(events);
+        std::cout << j.dump(2) << '\n';
+        return 0;
+    }
+    std::cout << o.file << ": " << table->frames.size() << " frames, " << table->notes.front() << '\n';
+    if (o.events) {
+        for (const auto& e : events) {
+            char buf[160];
+            std::snprintf(buf, sizeof buf, "  %9.3f s  %-26s %-8s %9.2f MPa at %7.3f %%\n", e.time_s, name_of(e.kind),
+                          e.label.c_str(), e.stress_MPa, 100.0 * e.strain);
+            std::cout << buf;
+        }
+    }
+    std::cout << results_text(results, *stress_unit);
+    return 0;
+}
+
+}  // namespace
+
+void add_analyze_command(CLI::App& app, int& exit_code) {
+    auto o = std::make_shared<AnalyzeOptions>();
+    auto* cmd = app.add_subcommand("analyze", "Analyse a recorded run (CSV: time_s,force_N,extension_mm,crosshead_mm)");
+    cmd->add_option("file", o->file, "Recorded run: delimited text with a header")->required();
+    auto* section = cmd->add_option_group("cross-section", "Specimen cross-section (one way)");
+    section->add_option("--area", o->area, "S0 in mm²");
+    section->add_option("--width", o->width, "Width of a flat specimen, mm");
+    section->add_option("--thickness", o->thickness, "Thickness of a flat specimen, mm");
+    section->add_option("--diameter", o->diameter, "Diameter of a round specimen (outer diameter of a tube), mm");
+    section->add_option("--wall", o->wall, "Wall thickness of a tube, mm");
+    cmd->add_option("--gauge-length", o->gauge_length, "L0 in mm");
+    cmd->add_option("--proportional", o->proportional, "Proportional gauge length k·√S0 (k = 5.65 or 11.3)");
+    cmd->add_option("--parallel-length", o->parallel_length, "Lc in mm (for strain from the crosshead)");
+    cmd->add_option("--columns", o->columns, "Column numbers, e.g. time=1,force=2,extension=3,crosshead=4");
+    cmd->add_option("--force-unit", o->force_unit, "Force unit when the header has none: N, kN, lbf, kgf");
+    cmd->add_option("--length-unit", o->length_unit, "Extension/crosshead unit when the header has none: mm, um, in");
+    cmd->add_option("--time-unit", o->time_unit, "Time unit: s, ms, min");
+    cmd->add_option("--rate", o->rate_hz, "Sample rate in Hz, for files without a time column");
+    cmd->add_option("--offset", o->offsets, "Proof offsets Rp x in % (repeat for several)");
+    cmd->add_option("--total", o->totals, "Total extensions Rt x in % (repeat for several)");
+    cmd->add_option("--modulus-window", o->modulus_window, "Fixed stress window for E, LOW:HIGH in MPa (default: automatic)");
+    cmd->add_option("--extensometer-range", o->extensometer_range, "Extensometer travel in mm; beyond it the reading counts as lost");
+    cmd->add_option("--stress-unit", o->stress_unit, "Stress unit of the printed table: MPa, ksi, psi");
+    cmd->add_flag("--json", o->json, "Print results as JSON");
+    cmd->add_flag("--events", o->events, "List the events too");
+    cmd->callback([o, &exit_code] {
+        try {
+            exit_code = run(*o);
+        } catch (const BadInput& bad) {
+            std::cerr << "tensilectl analyze: " << bad.message << '\n';
+            exit_code = 2;
+        }
+    });
+}
+
+}  // namespace tensile::ctl

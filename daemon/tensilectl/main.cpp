@@ -1,0 +1,21 @@
+// tensilectl: the command-line side of tensiled. Offline tools work without a
+// daemon; commands that talk to a running daemon come with the monitor work.
+#include <CLI/CLI.hpp>
+#include <iostream>
+
+#include "analyze_command.hpp"
+
+int main(int argc, char** argv) {
+    CLI::App app{"tensilectl: offline analysis and control for tensiled"};
+    app.require_subcommand(1);
+    app.set_version_flag("--version", std::string("tensilectl ") + TENSILED_VERSION);
+    int exit_code = 0;
+    tensile::ctl::add_analyze_command(app, exit_code);
+    try {
+        app.parse(argc, argv);
+    } catch (const CLI::ParseError& e) {
+        const int code = app.exit(e);
+        return code == 0 ? 0 : 2;
+    }
+    return exit_code;
+}
