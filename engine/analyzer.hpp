@@ -42,6 +42,9 @@ class Analyzer {
 public:
     Analyzer(SpecimenGeometry geometry, Profile profile);
 
+    // Sizes the history for a run of about this many frames (optional).
+    void reserve(std::size_t frames) { history_.reserve(frames); }
+
     // Feeds one frame; appends the events it makes known to `events`.
     void push(const Frame& frame, std::vector<Event>& events);
 

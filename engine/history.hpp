@@ -19,6 +19,11 @@ struct History {
     std::vector<double> extension_mm; // extensometer as read (NaN once lost)
     std::vector<double> crosshead_mm; // crosshead as read (NaN when not fitted)
 
+    void reserve(std::size_t n) {
+        for (auto* v : {&time_s, &force_N, &strain, &stress_MPa, &running_max, &extension_mm, &crosshead_mm})
+            v->reserve(n);
+    }
+
     [[nodiscard]] std::size_t size() const { return time_s.size(); }
     [[nodiscard]] bool empty() const { return time_s.empty(); }
 

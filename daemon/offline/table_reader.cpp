@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <cctype>
 #include <charconv>
+#include <cstdint>
 #include <cmath>
 
 namespace tensile {
@@ -64,9 +65,39 @@ HeaderColumn understand(std::string_view raw) {
     return c;
 }
 
+// Decimal numbers as recorders write them ("-123.4567"): digits into an
+// integer, then one exact division by a power of ten, which is correctly
+// rounded while the digits fit in 2^53 (Clinger's fast path). Anything else
+// (exponents, long mantissas) goes to std::from_chars.
 bool parse_number(std::string_view cell, bool decimal_comma, double& out) {
     if (cell.empty()) {
         out = absent;
+        return true;
+    }
+    static constexpr double powers[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
+                                        1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
+    const char* p = cell.data();
+    const char* end = p + cell.size();
+    const char point = decimal_comma ? ',' : '.';
+    bool negative = false;
+    if (*p == '-' || *p == '+') negative = *p++ == '-';
+    std::uint64_t mantissa = 0;
+    int digits = 0, fraction = -1;
+    for (; p < end; ++p) {
+        const unsigned d = static_cast<unsigned>(*p - '0');
+        if (d < 10) {
+            mantissa = mantissa * 10 + d;
+            ++digits;
+            if (fraction >= 0) ++fraction;
+        } else if (*p == point && fraction < 0) {
+            fraction = 0;
+        } else {
+            break;
+        }
+    }
+    if (p == end && digits > 0 && digits <= 15) {
+        const double v = static_cast<double>(mantissa) / powers[fraction < 0 ? 0 : fraction];
+        out = negative ? -v : v;
         return true;
     }
     char buf[64];
@@ -119,8 +150,8 @@ Result<TableLayout> parse_column_spec(std::string_view spec, TableLayout layout)
     return layout;
 }
 
-Result<Table> read_table(std::string_view text, const TableLayout& layout) {
-    Table table;
+Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, FrameSink& sink) {
+    TableInfo table;
     std::vector<std::string_view> cells;
     std::size_t pos = 0, line_no = 0;
     char sep = 0;
@@ -193,7 +224,7 @@ Result<Table> read_table(std::string_view text, const TableLayout& layout) {
             return Error{"no force column: name one in the header (force, force_N, force_kN...) or give --columns force=N"};
         if (col[0] == 0 && !layout.rate_hz)
             return Error{"no time column: name one in the header (time_s) or give --rate HZ for evenly sampled data"};
-        if (table.frames.empty()) {
+        if (table.frames == 0) {
             // Decimal commas: only possible when ',' is not the separator.
             decimal_comma = sep != ',' && line.find(',') != std::string_view::npos;
         }
@@ -213,17 +244,36 @@ Result<Table> read_table(std::string_view text, const TableLayout& layout) {
                              quantity_name(static_cast<Quantity>(q)) + "): " + show(cell) +
                              " is not a number; expected a decimal number such as 1523.4, or an empty cell"};
         }
-        if (col[0] == 0) f.time_s = static_cast<double>(table.frames.size()) / *layout.rate_hz;
+        if (col[0] == 0) f.time_s = static_cast<double>(table.frames) / *layout.rate_hz;
         else f.time_s *= time_scale;
         f.force_N *= force_scale;
         f.extension_mm *= length_scale[0];
         f.crosshead_mm *= length_scale[1];
-        table.frames.push_back(f);
+        sink.take(f);
+        ++table.frames;
     }
-    if (table.frames.empty()) return Error{"no data rows: expected lines of numbers after an optional header"};
+    if (table.frames == 0) return Error{"no data rows: expected lines of numbers after an optional header"};
     table.notes.push_back(std::string("separator '") + (sep == '\t' ? "tab" : std::string(1, sep)) + "'" +
                           (decimal_comma ? ", decimal comma" : ""));
     return table;
+}
+
+Result<Table> read_table(std::string_view text, const TableLayout& layout) {
+    struct Collect : FrameSink {
+        std::vector<Frame> frames;
+        void take(const Frame& f) override { frames.push_back(f); }
+    } collect;
+    collect.frames.reserve(estimate_rows(text));
+    auto info = scan_table(text, layout, collect);
+    if (!info) return Error{info.error()};
+    return Table{std::move(collect.frames), std::move(info->notes)};
+}
+
+std::size_t estimate_rows(std::string_view text) {
+    const std::size_t sample = std::min<std::size_t>(text.size(), 64 * 1024);
+    const auto lines = static_cast<std::size_t>(std::count(text.begin(), text.begin() + static_cast<long>(sample), '\n'));
+    if (lines == 0) return 1;
+    return text.size() / (sample / lines) + 1;
 }
 
 }  // namespace tensile

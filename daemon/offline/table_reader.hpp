@@ -40,7 +40,29 @@ struct Table {
     std::vector<std::string> notes;   // how columns were understood, for the user
 };
 
+// Receives frames one by one as they are read, so a long run never has to
+// sit in memory twice.
+class FrameSink {
+public:
+    virtual ~FrameSink() = default;
+    virtual void take(const Frame& frame) = 0;
+};
+
+struct TableInfo {
+    std::size_t frames = 0;
+    std::vector<std::string> notes;
+};
+
+// Streams the rows into `sink`. On an error the sink has seen the rows before
+// it; callers that must not act on part of a file wait for the outcome.
+Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, FrameSink& sink);
+
+// The whole table in memory.
 Result<Table> read_table(std::string_view text, const TableLayout& layout = {});
+
+// Rough number of data rows, from the text size and the first lines' length:
+// enough to reserve memory once.
+std::size_t estimate_rows(std::string_view text);
 
 // Parses "time=1,force=2,extension=3,crosshead=4" into a layout.
 Result<TableLayout> parse_column_spec(std::string_view spec, TableLayout base = {});

@@ -6,7 +6,10 @@
 
 #include <cerrno>
 #include <cstring>
-#include <fstream>
+#include <fcntl.h>
+#include <sys/mman.h>
+#include <sys/stat.h>
+#include <unistd.h>
 #include <iostream>
 #include <memory>
 #include <sstream>
@@ -107,13 +110,47 @@ TableLayout layout_from(const AnalyzeOptions& o) {
     return layout;
 }
 
-std::string read_file(const std::string& path) {
-    std::ifstream in(path, std::ios::binary);
-    if (!in) throw BadInput{"cannot open '" + path + "': " + std::strerror(errno)};
-    std::ostringstream all;
-    all << in.rdbuf();
-    return all.str();
-}
+// The file mapped read-only: no copy of a long recording in memory.
+class MappedFile {
+public:
+    explicit MappedFile(const std::string& path) {
+        const int fd = ::open(path.c_str(), O_RDONLY | O_CLOEXEC);
+        if (fd < 0) throw BadInput{"cannot open '" + path + "': " + std::strerror(errno)};
+        struct stat st {};
+        if (::fstat(fd, &st) != 0 || !S_ISREG(st.st_mode)) {
+            ::close(fd);
+            throw BadInput{"'" + path + "' is not a regular file; expected a recorded run (CSV)"};
+        }
+        size_ = static_cast<std::size_t>(st.st_size);
+        if (size_ > 0) {
+            data_ = ::mmap(nullptr, size_, PROT_READ, MAP_PRIVATE, fd, 0);
+            if (data_ == MAP_FAILED) {
+                const int err = errno;
+                ::close(fd);
+                throw BadInput{"cannot read '" + path + "': " + std::strerror(err)};
+            }
+            ::madvise(data_, size_, MADV_SEQUENTIAL);
+        }
+        ::close(fd);
+    }
+    ~MappedFile() {
+        if (data_ && data_ != MAP_FAILED) ::munmap(data_, size_);
+    }
+    MappedFile(const MappedFile&) = delete;
+    MappedFile& operator=(const MappedFile&) = delete;
+    [[nodiscard]] std::string_view text() const { return {static_cast<const char*>(data_), size_}; }
+
+private:
+    void* data_ = nullptr;
+    std::size_t size_ = 0;
+};
+
+struct AnalyzerSink : FrameSink {
+    Analyzer& analyzer;
+    std::vector<Event>& events;
+    AnalyzerSink(Analyzer& a, std::vector<Event>& e) : analyzer(a), events(e) {}
+    void take(const Frame& f) override { analyzer.push(f, events); }
+};
 
 int run(const AnalyzeOptions& o) {
     const auto geometry = check(specimen_from(o));
@@ -123,23 +160,25 @@ int run(const AnalyzeOptions& o) {
     const auto profile = profile_from(o);
     const auto layout = layout_from(o);
 
-    const std::string text = read_file(o.file);
-    auto table = read_table(text, layout);
-    if (!table) throw BadInput{o.file + ": " + table.error()};
-
+    const MappedFile file(o.file);
     Analyzer analyzer(*geometry, profile);
+    analyzer.reserve(estimate_rows(file.text()));
     std::vector<Event> events;
-    for (const auto& f : table->frames) analyzer.push(f, events);
+    AnalyzerSink sink(analyzer, events);
+    // Rows stream straight into the analyzer; on a bad row nothing is printed
+    // but the message.
+    auto table = scan_table(file.text(), layout, sink);
+    if (!table) throw BadInput{o.file + ": " + table.error()};
     const Results results = analyzer.finish();
 
     if (o.json) {
         auto j = to_json(results);
-        j["frames"] = table->frames.size();
+        j["frames"] = table->frames;
         if (o.events) j["events"] = to_json(events);
         std::cout << j.dump(2) << '\n';
         return 0;
     }
-    std::cout << o.file << ": " << table->frames.size() << " frames, " << table->notes.front() << '\n';
+    std::cout << o.file << ": " << table->frames << " frames, " << table->notes.front() << '\n';
     if (o.events) {
         for (const auto& e : events) {
             char buf[160];
