@@ -144,7 +144,7 @@ double Analyzer::plastic(std::size_t i) const {
 
 void Analyzer::follow_modulus(std::size_t i, std::vector<Event>& events) {
     if (modulus_locked_) {
-        scan_offsets(i, i + 1, events);
+        if (!all_offsets_found_) scan_offsets(i, i + 1, events);
         return;
     }
     const std::size_t n = i + 1;
@@ -204,9 +204,16 @@ void Analyzer::scan_offsets(std::size_t from, std::size_t to, std::vector<Event>
                                                 totals_[j].offset_pct, offset_label("Rt", totals_[j].offset_pct)));
         }
     }
+    all_offsets_found_ = std::all_of(proof_found_.begin(), proof_found_.end(), [](bool b) { return b; }) &&
+                         std::all_of(total_found_.begin(), total_found_.end(), [](bool b) { return b; });
 }
 
 void Analyzer::follow_yield(std::size_t i, std::vector<Event>& events) {
+    // Past the plastic strain where a yield point may start, with none found,
+    // or after the end of yielding, there is nothing left to watch.
+    if (yield_.points() ? yield_.points()->end_index.has_value()
+                        : modulus_locked_ && plastic(i) > profile_.yield_max_plastic_pct / 100.0)
+        return;
     const bool eligible = modulus_ && history_.stress_MPa[i] > modulus_->low_MPa;
     switch (yield_.update(history_, i, eligible, plastic(i), force_noise_N() / geometry_.S0_mm2)) {
         case YieldDetector::Step::none: break;

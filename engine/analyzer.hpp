@@ -103,6 +103,7 @@ private:
     std::size_t next_fit_at_ = 16;
     int departed_frames_ = 0;
     std::vector<bool> proof_found_, total_found_;
+    bool all_offsets_found_ = false;
     std::vector<OffsetValue> proofs_, totals_;
 
     YieldDetector yield_;

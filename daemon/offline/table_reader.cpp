@@ -5,6 +5,7 @@
 #include <cctype>
 #include <charconv>
 #include <cstdint>
+#include <cstring>
 #include <cmath>
 
 namespace tensile {
@@ -110,6 +111,43 @@ bool parse_number(std::string_view cell, bool decimal_comma, double& out) {
     return ec == std::errc() && ptr == buf + n && std::isfinite(out);
 }
 
+// The common case without copying: a plain decimal number ending at the
+// separator or the row end. False sends the cell to the careful path.
+inline bool parse_fast(const char* p, const char* end, char sep, bool decimal_comma, double& out, const char*& stop) {
+    static constexpr double powers[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
+                                        1e12, 1e13, 1e14, 1e15};
+    const char point = decimal_comma ? ',' : '.';
+    bool negative = false;
+    if (p < end && *p == '-') {
+        negative = true;
+        ++p;
+    }
+    std::uint64_t mantissa = 0;
+    int digits = 0, fraction = -1;
+    for (; p < end; ++p) {
+        const unsigned d = static_cast<unsigned>(*p - '0');
+        if (d < 10) {
+            mantissa = mantissa * 10 + d;
+            ++digits;
+            fraction += fraction >= 0;
+        } else if (*p == point && fraction < 0) {
+            fraction = 0;
+        } else {
+            break;
+        }
+    }
+    if ((p < end && *p != sep) || digits > 15) return false;
+    if (digits == 0) {
+        if (negative || fraction >= 0) return false;
+        out = absent;  // an empty cell
+    } else {
+        const double v = static_cast<double>(mantissa) / powers[fraction < 0 ? 0 : fraction];
+        out = negative ? -v : v;
+    }
+    stop = p;
+    return true;
+}
+
 std::string show(std::string_view cell) {
     std::string s(cell.substr(0, 40));
     return "'" + s + (cell.size() > 40 ? "...'" : "'");
@@ -163,14 +201,17 @@ Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, F
     double time_scale = layout.time_scale;
     bool header_seen = false;
     std::size_t width = 0;
+    int wanted = 0;                 // the last column read
+    std::vector<int> quantity_at;   // column → quantity read from it (-1: skipped)
 
     while (pos < text.size()) {
-        const std::size_t end = std::min(text.find('\n', pos), text.size());
+        const void* nl = std::memchr(text.data() + pos, '\n', text.size() - pos);
+        const std::size_t end = nl ? static_cast<std::size_t>(static_cast<const char*>(nl) - text.data()) : text.size();
         std::string_view line = text.substr(pos, end - pos);
         pos = end + 1;
         ++line_no;
         if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
-        if (trim(line).empty() || line.front() == '#') continue;
+        if (line.empty() || line.front() == '#' || trim(line).empty()) continue;
 
         if (!sep) {
             // The separator is whichever of tab, ';' or ',' the first line uses
@@ -178,9 +219,8 @@ Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, F
             const auto count = [&](char c) { return std::count(line.begin(), line.end(), c); };
             sep = count('\t') > 0 ? '\t' : count(';') > 0 ? ';' : ',';
         }
-        split(line, sep, cells);
-
         if (!header_seen) {
+            split(line, sep, cells);
             header_seen = true;
             double probe = 0;
             if (!parse_number(cells[0], sep != ',', probe)) {  // a header line
@@ -227,22 +267,48 @@ Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, F
         if (table.frames == 0) {
             // Decimal commas: only possible when ',' is not the separator.
             decimal_comma = sep != ',' && line.find(',') != std::string_view::npos;
+            for (int q = 0; q < 4; ++q)
+                if (col[q] > 0) wanted = std::max(wanted, col[q]);
+            quantity_at.assign(static_cast<std::size_t>(wanted), -1);
+            for (int q = 0; q < 4; ++q)
+                if (col[q] > 0) quantity_at[static_cast<std::size_t>(col[q] - 1)] = q;
         }
 
         Frame f;
         double* dest[4] = {&f.time_s, &f.force_N, &f.extension_mm, &f.crosshead_mm};
-        for (int q = 0; q < 4; ++q) {
-            if (col[q] == 0) continue;
-            if (static_cast<std::size_t>(col[q]) > cells.size())
-                return Error{"line " + std::to_string(line_no) + ": " + std::to_string(cells.size()) +
-                             " columns, but " + quantity_name(static_cast<Quantity>(q)) + " is column " +
-                             std::to_string(col[q]) + "; expected " + std::to_string(std::max<std::size_t>(width, col[q])) +
-                             " columns as on the first line"};
-            const auto cell = cells[static_cast<std::size_t>(col[q] - 1)];
-            if (!parse_number(cell, decimal_comma, *dest[q]))
-                return Error{"line " + std::to_string(line_no) + ", column " + std::to_string(col[q]) + " (" +
-                             quantity_name(static_cast<Quantity>(q)) + "): " + show(cell) +
-                             " is not a number; expected a decimal number such as 1523.4, or an empty cell"};
+        // One pass over the row: each wanted cell parsed where it lies.
+        const char* p = line.data();
+        const char* const row_end = p + line.size();
+        int column = 0;
+        for (; column < wanted; ++column) {
+            if (column > 0) {
+                if (p >= row_end) break;
+                ++p;  // the separator
+            }
+            const char* cell_end = p;
+            const int q = quantity_at[column];
+            if (q < 0) {
+                cell_end = static_cast<const char*>(std::memchr(p, sep, static_cast<std::size_t>(row_end - p)));
+                p = cell_end ? cell_end : row_end;
+                continue;
+            }
+            if (!parse_fast(p, row_end, sep, decimal_comma, *dest[q], cell_end)) {
+                const char* stop = static_cast<const char*>(std::memchr(p, sep, static_cast<std::size_t>(row_end - p)));
+                cell_end = stop ? stop : row_end;
+                const auto cell = trim(std::string_view(p, static_cast<std::size_t>(cell_end - p)));
+                if (!parse_number(cell, decimal_comma, *dest[q]))
+                    return Error{"line " + std::to_string(line_no) + ", column " + std::to_string(column + 1) + " (" +
+                                 quantity_name(static_cast<Quantity>(q)) + "): " + show(cell) +
+                                 " is not a number; expected a decimal number such as 1523.4, or an empty cell"};
+            }
+            p = cell_end;
+        }
+        if (column < wanted) {
+            split(line, sep, cells);
+            return Error{"line " + std::to_string(line_no) + ": " + std::to_string(cells.size()) + " columns, but " +
+                         quantity_name(static_cast<Quantity>(quantity_at[wanted - 1])) + " is column " +
+                         std::to_string(wanted) + "; expected " + std::to_string(std::max<std::size_t>(width, wanted)) +
+                         " columns as on the first line"};
         }
         if (col[0] == 0) f.time_s = static_cast<double>(table.frames) / *layout.rate_hz;
         else f.time_s *= time_scale;
