@@ -141,21 +141,22 @@ void FaultPlan::apply(Sample& s, double t) {
 }
 
 void FaultPlan::after_record(std::string& out, std::size_t start, double t) {
+    // Tearing first, so garbage lands after the torn piece as it would on a line.
     for (Fault& f : faults_) {
-        if (!f.active(t)) continue;
-        if (f.kind == FaultKind::torn) {
-            const std::size_t len = out.size() - start;
-            if (len > 2 && rng_.uniform() < f.amount) {
-                out.resize(start + 1 + rng_.below(len - 2));  // keep 1..len-2 bytes: the line end is lost
-                ++f.records_affected;
-            }
-        } else if (f.kind == FaultKind::garbage) {
-            garbage_credit_ += f.amount / rate_hz_;
-            while (garbage_credit_ >= 1) {
-                out.push_back(static_cast<char>(rng_.below(256)));
-                garbage_credit_ -= 1;
-                ++f.bytes_injected;
-            }
+        if (f.kind != FaultKind::torn || !f.active(t)) continue;
+        const std::size_t len = out.size() - start;
+        if (len > 2 && rng_.uniform() < f.amount) {
+            out.resize(start + 1 + rng_.below(len - 2));  // keep 1..len-2 bytes: the line end is lost
+            ++f.records_affected;
+        }
+    }
+    for (Fault& f : faults_) {
+        if (f.kind != FaultKind::garbage || !f.active(t)) continue;
+        garbage_credit_ += f.amount / rate_hz_;
+        while (garbage_credit_ >= 1) {
+            out.push_back(static_cast<char>(rng_.below(256)));
+            garbage_credit_ -= 1;
+            ++f.bytes_injected;
         }
     }
 }

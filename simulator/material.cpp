@@ -191,13 +191,13 @@ Result<MaterialCurve> make_curve(const MaterialSpec& s) {
     if (best == n - 1) return Error{who + ": the hardening law has no force maximum below 400 % strain"};
     if (best == 0 && s.yield_point)
         return Error{who + ": the hardening law is already past its force maximum where the Lüders plateau ends; make Ae shorter or the law harden more"};
+    // Refine by bisection on the sign of a central difference: a flat maximum is
+    // found to ~1e-11 in strain this way (comparing values alone stops at ~1e-8).
     double a = grid[std::max(0, best - 1)], b = grid[best + 1];
-    const double phi = (std::sqrt(5.0) - 1) / 2;
-    double x1 = b - phi * (b - a), x2 = a + phi * (b - a);
-    double f1 = hom(x1), f2 = hom(x2);
-    for (int i = 0; i < 200 && b - a > 1e-14; ++i) {
-        if (f1 < f2) { a = x1; x1 = x2; f1 = f2; x2 = a + phi * (b - a); f2 = hom(x2); }
-        else { b = x2; x2 = x1; f2 = f1; x1 = b - phi * (b - a); f1 = hom(x1); }
+    const double h = 1e-6;
+    for (int i = 0; i < 200 && b - a > 1e-15; ++i) {
+        const double m = 0.5 * (a + b);
+        if (hom(m + h) - hom(m - h) > 0) a = m; else b = m;
     }
     c.uniform_strain_ = 0.5 * (a + b);
 
