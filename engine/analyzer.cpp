@@ -134,7 +134,7 @@ void Analyzer::lose_extensometer(const char* why, std::vector<Event>& events) {
                   "strain from %.4g %% on comes from the crosshead (%s, compliance %.3g mm/kN)",
                   100.0 * (history_.strain.back() - toe()), crosshead_->from_fit ? "fitted" : "Lc/L0 ratio",
                   crosshead_->C * 1000.0);
-    warnings_.push_back(note);
+    crosshead_note_ = note;  // reported by finish() unless the loss came with the break
 }
 
 double Analyzer::plastic(std::size_t i) const {

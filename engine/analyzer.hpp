@@ -96,6 +96,7 @@ private:
     std::optional<CrossheadModel> crosshead_;
     double last_extension_mm_ = absent;
     double last_crosshead_mm_ = absent;
+    std::string crosshead_note_;
 
     // Modulus: provisional until the curve departs from it, then locked.
     std::optional<ModulusFit> modulus_;

@@ -13,7 +13,7 @@ namespace tensile {
 namespace {
 
 std::string fmt(const char* format, double v) {
-    char buf[160];
+    char buf[512];
     std::snprintf(buf, sizeof buf, format, v);
     return buf;
 }
@@ -95,6 +95,8 @@ Results Analyzer::finish() {
     }
     const auto& h = history_;
     const std::size_t onset = breaker_.onset_index().value_or(h.size() - 1);
+    // An extensometer that lets go at the break is no hand-over.
+    if (!crosshead_note_.empty() && lost_at_ && *lost_at_ <= onset) r.warnings.push_back(crosshead_note_);
 
     // The curve never left the provisional line (a brittle break, or the run
     // stopped early): settle E on what there is.
@@ -114,6 +116,11 @@ Results Analyzer::finish() {
         r.E_window_low_MPa = modulus_->low_MPa;
         r.E_window_high_MPa = modulus_->high_MPa;
         r.toe_strain = modulus_->toe_strain();
+        if (modulus_->r2 < profile_.modulus_min_r2)
+            r.warnings.push_back(fmt("the modulus fit is poor (r² %.4f): the curve has no clearly straight part above "
+                                     "the noise, as with annealed soft alloys; E and the offset strengths that use it "
+                                     "are uncertain; consider a fixed modulus window in the profile",
+                                     modulus_->r2));
     } else {
         r.warnings.push_back("modulus not determined: no straight rising part found");
     }
@@ -144,7 +151,7 @@ Results Analyzer::finish() {
     if (std::isfinite(h.strain[m])) {
         // The span from the first to the last frame within the band: noise
         // makes any contiguous walk outwards from the raw maximum stop early.
-        const double band = std::max(0.002 * Fm, 8.0 * noise);
+        const double band = std::max(0.001 * Fm, 6.0 * noise);
         std::size_t lo = m, hi = m;
         for (std::size_t k = force_peak_from(); k <= onset; ++k) {
             if (!std::isfinite(h.strain[k]) || h.force_N[k] < Fm - band) continue;
