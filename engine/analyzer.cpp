@@ -153,7 +153,7 @@ void Analyzer::follow_modulus(std::size_t i, std::vector<Event>& events) {
         if (auto fit = find_modulus(history_.strain_upto(n), history_.stress_upto(n), history_.max_upto(n), profile_))
             modulus_ = fit;
     }
-    if (!modulus_ || history_.stress_MPa[i] <= modulus_->high_MPa) {
+    if (!modulus_ || i < modulus_->last) {  // only frames past the fitted part can leave it
         departed_frames_ = 0;
         return;
     }
