@@ -4,6 +4,7 @@
 // was wrong and what was expected, and exit code 2.
 #include "analyze_command.hpp"
 
+#include <algorithm>
 #include <cerrno>
 #include <cstring>
 #include <fcntl.h>
@@ -170,6 +171,13 @@ int run(const AnalyzeOptions& o) {
     auto table = scan_table(file.text(), layout, sink);
     if (!table) throw BadInput{o.file + ": " + table.error()};
     const Results results = analyzer.finish();
+    // A recording whose force never rises is no test: refuse it rather than
+    // print a table of blanks.
+    const auto& force = analyzer.history().force_N;
+    const auto [low, high] = std::minmax_element(force.begin(), force.end());
+    if (force.empty() || !(*high > 0) || !(*high - *low > 0.01 * *high) || !results.E_MPa)
+        throw BadInput{o.file + ": no rise in force (highest " + std::to_string(force.empty() ? 0.0 : *high) +
+                       " N): expected a recorded tensile test whose force climbs from near zero"};
 
     if (o.json) {
         auto j = to_json(results);
@@ -208,7 +216,8 @@ void add_analyze_command(CLI::App& app, int& exit_code) {
     cmd->add_option("--parallel-length", o->parallel_length, "Lc in mm (for strain from the crosshead)");
     cmd->add_option("--columns", o->columns, "Column numbers, e.g. time=1,force=2,extension=3,crosshead=4");
     cmd->add_option("--force-unit", o->force_unit, "Force unit when the header has none: N, kN, lbf, kgf");
-    cmd->add_option("--length-unit", o->length_unit, "Extension/crosshead unit when the header has none: mm, um, in");
+    cmd->add_option("--length-unit,--extension-unit", o->length_unit,
+                    "Extension/crosshead unit when the header has none: mm, um, in");
     cmd->add_option("--time-unit", o->time_unit, "Time unit: s, ms, min");
     cmd->add_option("--rate", o->rate_hz, "Sample rate in Hz, for files without a time column");
     cmd->add_option("--offset", o->offsets, "Proof offsets Rp x in % (repeat for several)");

@@ -46,6 +46,47 @@ TEST_CASE("a soft alloy with the extensometer removed at 3 % and a 10 s hold") {
     CHECK(r.warnings.size() >= 1);
 }
 
+TEST_CASE("a copper-like curve with a preload, removal at 3 %, a hold, and fracture") {
+    // Hollomon K = 400 MPa, n = 0.25 on an annealed-copper-like modulus: Rp0.2
+    // ≈ 0.38·Rm (derived: σ at εp = 0.002 is K·0.002ⁿ, Rm = K·nⁿ·e⁻ⁿ, see
+    // Considere-Hollomon). Common practice: the extensometer comes off after
+    // yield with the frame held; strain then comes from the crosshead.
+    RigSettings rig;
+    rig.force_noise_share = 0.0005;
+    rig.force_noise_floor_N = 1.0;
+    rig.extension_noise_mm = 0.0003;
+    rig.compliance_mm_per_N = 2e-5;
+    rig.preload_MPa = 5;
+    rig.remove_extensometer_at = 0.03;
+    rig.hold_s = 10;
+    rig.fracture_strain = 0.40;
+    const double E = 115000, K = 400, n = 0.25;
+    const auto curve = hollomon_curve(E, K, n);
+    const auto run = analyse(make_run(curve, rig), {rig.S0_mm2, rig.L0_mm, rig.Lc_mm});
+    const auto& r = run.results;
+    double e_at_max = 0;
+    const double Rm = max_stress(curve, 0.4, &e_at_max);
+    REQUIRE(r.Rm_MPa);
+    CHECK(*r.Rm_MPa == Approx(Rm).epsilon(0.002));
+    CHECK(K * std::pow(n, n) * std::exp(-n) == Approx(Rm).epsilon(0.003));  // Considere-Hollomon, elastic part neglected
+    REQUIRE(r.proof(0.2));
+    CHECK(*r.proof(0.2) / *r.Rm_MPa == Approx(0.38).margin(0.02));
+    REQUIRE(r.E_MPa);
+    CHECK(*r.E_MPa == Approx(E).epsilon(0.05));  // a power law has no truly straight part: 5 %
+    // After the hand-over: Ag and A from the crosshead, said so in a warning.
+    REQUIRE(r.Agt_pct);
+    CHECK(r.Ag_source == StrainSource::crosshead);
+    CHECK(*r.Agt_pct == Approx(100.0 * e_at_max).margin(1.0));
+    REQUIRE(r.At_pct);
+    CHECK(r.At_source == StrainSource::crosshead);
+    CHECK(*r.At_pct == Approx(40.0).margin(0.5));
+    bool said = false;
+    for (const auto& w : r.warnings) said |= w.find("crosshead") != std::string::npos;
+    CHECK(said);
+    CHECK(run.count(EventKind::max_force) == 1);
+    CHECK(run.count(EventKind::fracture) == 1);
+}
+
 TEST_CASE("an extensometer that jumps counts as lost, and strain goes on from the crosshead") {
     RigSettings rig;
     rig.compliance_mm_per_N = 2e-5;

@@ -84,6 +84,17 @@ TEST_CASE("analyze refuses bad input with a clear message and exit code 2") {
     CHECK(r.code == 2);
     CHECK_THAT(r.out, Catch::Contains("cannot open"));
 
+    const auto flat = (std::filesystem::temp_directory_path() / "tensiled-analyze-flat.csv").string();
+    {
+        std::ofstream out(flat);
+        out << "time_s,force_N,extension_mm\n";
+        for (int i = 0; i < 100; ++i) out << i * 0.01 << ",0.5," << i * 1e-4 << "\n";
+    }
+    r = run("analyze " + flat + " --area 80 --gauge-length 80");
+    CHECK(r.code == 2);
+    CHECK_THAT(r.out, Catch::Contains("no rise in force"));
+    std::filesystem::remove(flat);
+
     r = run("analyze " + path + " --area 80 --gauge-length 80 --modulus-window 100");
     CHECK(r.code == 2);
     CHECK_THAT(r.out, Catch::Contains("LOW:HIGH"));
