@@ -24,6 +24,16 @@ ours=$(best build/bin/tensilectl analyze "$csv" --area 80 --gauge-length 80 --js
 rss=$( { /usr/bin/time -f %M build/bin/tensilectl analyze "$csv" --area 80 --gauge-length 80 --json > /dev/null; } 2>&1 )
 if [ -f "$peer" ]; then
   theirs=$(best /usr/bin/python3 "$peer" "$csv" 80 80)
+  # Agreement on clean data: Rp0.2 and Rm within 0.5 % of the peer's.
+  build/bin/tensilectl analyze "$csv" --area 80 --gauge-length 80 --json > "$work/ours.json"
+  /usr/bin/python3 "$peer" "$csv" 80 80 > "$work/peer.json"
+  /usr/bin/python3 - "$work/ours.json" "$work/peer.json" <<'PY'
+import json, sys
+ours, peer = json.load(open(sys.argv[1])), json.load(open(sys.argv[2]))
+for mine, theirs in (("Rp0.2_MPa", "Rp02_MPa"), ("Rm_MPa", "Rm_MPa"), ("E_MPa", "E_MPa")):
+    d = 100 * (ours[mine] - peer[theirs]) / peer[theirs]
+    print(f"{mine:10s} tensilectl {ours[mine]:10.2f}  peer {peer[theirs]:10.2f}  difference {d:+.3f} %")
+PY
   printf 'tensilectl analyze: %.3f s (peak %d MB)\npeer (pandas+numpy): %.3f s\nratio: %.1fx faster (goal 10x)\n' \
     "$ours" $((rss / 1024)) "$theirs" "$(echo "$theirs / $ours" | bc -l)"
 else

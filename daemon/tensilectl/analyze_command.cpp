@@ -16,7 +16,7 @@
 #include <sstream>
 
 #include "daemon/offline/results_json.hpp"
-#include "daemon/offline/table_reader.hpp"
+#include "daemon/offline/pipelined_scan.hpp"
 #include "engine/analyzer.hpp"
 #include "engine/specimen.hpp"
 
@@ -168,7 +168,7 @@ int run(const AnalyzeOptions& o) {
     AnalyzerSink sink(analyzer, events);
     // Rows stream straight into the analyzer; on a bad row nothing is printed
     // but the message.
-    auto table = scan_table(file.text(), layout, sink);
+    auto table = scan_table_pipelined(file.text(), layout, sink);
     if (!table) throw BadInput{o.file + ": " + table.error()};
     const Results results = analyzer.finish();
     // A recording whose force never rises is no test: refuse it rather than

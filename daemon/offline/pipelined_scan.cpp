@@ -1,0 +1,100 @@
+// Two-thread table reading; see pipelined_scan.hpp.
+#include "pipelined_scan.hpp"
+
+#include <condition_variable>
+#include <deque>
+#include <mutex>
+#include <optional>
+#include <thread>
+
+namespace tensile {
+
+namespace {
+
+constexpr std::size_t chunk_frames = 16384;
+constexpr std::size_t queue_chunks = 4;
+
+class ChunkQueue {
+public:
+    void push(std::vector<Frame>&& chunk) {
+        std::unique_lock lock(mutex_);
+        room_.wait(lock, [&] { return full_.size() < queue_chunks; });
+        full_.push_back(std::move(chunk));
+        ready_.notify_one();
+    }
+    // Empty optional once the reader is done and everything was taken.
+    std::optional<std::vector<Frame>> pop() {
+        std::unique_lock lock(mutex_);
+        ready_.wait(lock, [&] { return !full_.empty() || done_; });
+        if (full_.empty()) return std::nullopt;
+        auto chunk = std::move(full_.front());
+        full_.pop_front();
+        room_.notify_one();
+        return chunk;
+    }
+    void recycle(std::vector<Frame>&& chunk) {
+        chunk.clear();
+        std::lock_guard lock(mutex_);
+        spare_.push_back(std::move(chunk));
+    }
+    std::vector<Frame> fresh() {
+        std::lock_guard lock(mutex_);
+        if (spare_.empty()) {
+            std::vector<Frame> v;
+            v.reserve(chunk_frames);
+            return v;
+        }
+        auto v = std::move(spare_.back());
+        spare_.pop_back();
+        return v;
+    }
+    void finish() {
+        std::lock_guard lock(mutex_);
+        done_ = true;
+        ready_.notify_all();
+    }
+
+private:
+    std::mutex mutex_;
+    std::condition_variable ready_, room_;
+    std::deque<std::vector<Frame>> full_;
+    std::vector<std::vector<Frame>> spare_;
+    bool done_ = false;
+};
+
+struct ChunkingSink : FrameSink {
+    ChunkQueue& queue;
+    std::vector<Frame> chunk;
+    explicit ChunkingSink(ChunkQueue& q) : queue(q), chunk(q.fresh()) {}
+    void take(const Frame& f) override {
+        chunk.push_back(f);
+        if (chunk.size() == chunk_frames) {
+            queue.push(std::move(chunk));
+            chunk = queue.fresh();
+        }
+    }
+    void flush() {
+        if (!chunk.empty()) queue.push(std::move(chunk));
+    }
+};
+
+}  // namespace
+
+Result<TableInfo> scan_table_pipelined(std::string_view text, const TableLayout& layout, FrameSink& sink) {
+    ChunkQueue queue;
+    std::optional<Result<TableInfo>> outcome;
+    std::thread reader([&] {
+        ChunkingSink chunker(queue);
+        outcome.emplace(scan_table(text, layout, chunker));
+        chunker.flush();
+        queue.finish();
+    });
+    while (auto chunk = queue.pop()) {
+        for (const auto& f : *chunk) sink.take(f);
+        queue.recycle(std::move(*chunk));
+    }
+    reader.join();
+    return std::move(*outcome);
+}
+
+}  // namespace tensile
