@@ -1,0 +1,98 @@
+// What TCP and serial sources share: capped exponential backoff with jitter,
+// the state machine's one-log-line-per-change policy, and gap bookkeeping.
+//
+// Logging policy: every state change is one line. While a device stays away,
+// repeated failed attempts with the same reason are logged at debug level and
+// summarised in the line that reports the reconnection, so a dead device does
+// not flood the log.
+#pragma once
+
+#include <random>
+#include <memory>
+#include <string>
+
+#include <spdlog/spdlog.h>
+
+#include "byte_source.hpp"
+
+namespace tensile::drivers {
+
+struct BackoffConfig {
+    double initial_s = 0.1;
+    double max_s = 1.0;     // cap; keeps reconnection within ~max_s of the device coming back
+    double jitter = 0.2;    // ± fraction, so several sources do not retry in lockstep
+};
+
+class Backoff {
+public:
+    Backoff(BackoffConfig cfg, std::uint32_t seed) : cfg_(cfg), rng_(seed) {}
+    // Delay before the next attempt; doubles up to the cap.
+    double next() {
+        const double base = current_ > 0 ? current_ : cfg_.initial_s;
+        current_ = std::min(base * 2.0, cfg_.max_s);
+        std::uniform_real_distribution<double> j(1.0 - cfg_.jitter, 1.0 + cfg_.jitter);
+        return std::min(base, cfg_.max_s) * j(rng_);
+    }
+    void reset() { current_ = 0; }
+
+private:
+    BackoffConfig cfg_;
+    std::minstd_rand rng_;
+    double current_ = 0;
+};
+
+class LinkKeeper {
+public:
+    LinkKeeper(std::string name, std::shared_ptr<spdlog::logger> log)
+        : name_(std::move(name)), log_(log ? std::move(log) : spdlog::default_logger()) {}
+
+    void set_handlers(SourceHandlers h) { handlers_ = std::move(h); }
+    [[nodiscard]] SourceState state() const { return state_; }
+    [[nodiscard]] const std::string& name() const { return name_; }
+    spdlog::logger& log() { return *log_; }
+
+    void change(SourceState s, std::string_view detail) {
+        if (s == state_) return;
+        state_ = s;
+        if (s == SourceState::connected && failed_attempts_ > 0)
+            log_->info("source {}: {} {} (after {} failed attempts)", name_, name_of(s), detail, failed_attempts_);
+        else
+            log_->info("source {}: {} {}", name_, name_of(s), detail);
+        if (s == SourceState::connected) failed_attempts_ = 0;
+        if (handlers_.on_state) handlers_.on_state(s);
+    }
+
+    // An attempt failed while already waiting: quiet, counted.
+    void attempt_failed(std::string_view reason) {
+        ++failed_attempts_;
+        log_->debug("source {}: attempt {} failed: {}", name_, failed_attempts_, reason);
+    }
+
+    // The link was up and is now gone: opens a gap (once).
+    void lost(std::string_view reason) {
+        if (!std::isnan(gap_.start_s)) return;  // already open
+        gap_ = GapEvent{name_, host_now_s(), NAN, std::string(reason)};
+        if (handlers_.on_gap) handlers_.on_gap(gap_);
+    }
+
+    void bytes(std::span<const std::byte> b) {
+        const double now = host_now_s();
+        if (!std::isnan(gap_.start_s)) {
+            gap_.end_s = now;
+            log_->info("source {}: data again after a gap of {:.3f} s", name_, gap_.end_s - gap_.start_s);
+            if (handlers_.on_gap) handlers_.on_gap(gap_);
+            gap_ = GapEvent{};
+        }
+        if (handlers_.on_bytes) handlers_.on_bytes(b, now);
+    }
+
+private:
+    std::string name_;
+    std::shared_ptr<spdlog::logger> log_;
+    SourceHandlers handlers_;
+    SourceState state_ = SourceState::stopped;
+    GapEvent gap_;
+    unsigned failed_attempts_ = 0;
+};
+
+}  // namespace tensile::drivers

@@ -1,0 +1,137 @@
+// See serial_source.hpp. The stream_descriptor owns a dup() of the port's fd so
+// that Asio and libserialport each close their own descriptor.
+#include "serial_source.hpp"
+
+#include <unistd.h>
+
+#include <boost/asio/post.hpp>
+#include <boost/asio/write.hpp>
+
+namespace tensile::drivers {
+
+namespace asio = boost::asio;
+
+std::shared_ptr<SerialSource> SerialSource::create(asio::io_context& io, SerialSourceConfig cfg,
+                                                   std::shared_ptr<spdlog::logger> log) {
+    return std::shared_ptr<SerialSource>(new SerialSource(io, std::move(cfg), std::move(log)));
+}
+
+SerialSource::SerialSource(asio::io_context& io, SerialSourceConfig cfg, std::shared_ptr<spdlog::logger> log)
+    : io_(io),
+      cfg_(std::move(cfg)),
+      keeper_(cfg_.name, std::move(log)),
+      backoff_(cfg_.backoff, static_cast<std::uint32_t>(std::hash<std::string>{}(cfg_.path))),
+      stream_(io),
+      timer_(io),
+      buf_(cfg_.read_chunk) {}
+
+void SerialSource::start(SourceHandlers handlers) {
+    keeper_.set_handlers(std::move(handlers));
+    running_ = true;
+    if (keeper_.state() == SourceState::stopped) keeper_.change(SourceState::connecting, "to " + cfg_.path);
+    open();
+}
+
+void SerialSource::close_port() {
+    boost::system::error_code ignored;
+    stream_.close(ignored);
+    handle_.close();
+}
+
+void SerialSource::stop() {
+    running_ = false;
+    ++generation_;
+    timer_.cancel();
+    close_port();
+    for (auto& [data, done] : sendq_)
+        if (done) asio::post(io_, [d = std::move(done)] { d(std::make_error_code(std::errc::operation_canceled)); });
+    sendq_.clear();
+    writing_ = false;
+    keeper_.change(SourceState::stopped, "");
+}
+
+void SerialSource::open() {
+    ++generation_;
+    std::string detail;
+    if (const auto ec = handle_.open(cfg_.path, cfg_.settings, detail)) return fail(detail);
+    const int fd = ::dup(handle_.fd());
+    if (fd < 0) return fail("dup failed");
+    boost::system::error_code ec;
+    stream_.assign(fd, ec);
+    if (ec) {
+        ::close(fd);
+        return fail("cannot watch the port: " + ec.message());
+    }
+    stream_.non_blocking(true, ec);
+    backoff_.reset();
+    keeper_.change(SourceState::connected,
+                   cfg_.path + (handle_.via_termios() ? " (pseudo-terminal, termios)" : " (libserialport)"));
+    read();
+}
+
+void SerialSource::read() {
+    auto self = shared_from_this();
+    const auto gen = generation_;
+    stream_.async_read_some(asio::buffer(buf_), [this, self, gen](boost::system::error_code ec, std::size_t n) {
+        if (gen != generation_) return;
+        // A pty whose master closed reads EIO; a vanished USB port reads EIO or EOF.
+        if (ec) return fail(ec == asio::error::eof ? std::string("end of file") : ec.message());
+        keeper_.bytes(std::span<const std::byte>(buf_.data(), n));
+        if (gen == generation_) read();
+    });
+}
+
+void SerialSource::fail(const std::string& reason) {
+    if (!running_) return;
+    ++generation_;
+    close_port();
+    writing_ = false;
+    for (auto& [data, done] : sendq_)
+        if (done) asio::post(io_, [d = std::move(done)] { d(std::make_error_code(std::errc::not_connected)); });
+    sendq_.clear();
+    if (keeper_.state() == SourceState::connected) {
+        keeper_.lost(reason);
+        keeper_.change(SourceState::waiting, "(" + reason + ")");
+    } else if (keeper_.state() == SourceState::connecting) {
+        keeper_.change(SourceState::waiting, "(" + reason + ")");
+    } else {
+        keeper_.attempt_failed(reason);
+    }
+    auto self = shared_from_this();
+    const auto gen = generation_;
+    timer_.expires_after(std::chrono::duration_cast<std::chrono::steady_clock::duration>(
+        std::chrono::duration<double>(backoff_.next())));
+    timer_.async_wait([this, self, gen](boost::system::error_code e) {
+        if (e || gen != generation_ || !running_) return;
+        open();
+    });
+}
+
+void SerialSource::send(std::string bytes, SendDone done) {
+    if (keeper_.state() != SourceState::connected || sendq_.size() >= cfg_.max_send_queue) {
+        const auto err = keeper_.state() != SourceState::connected ? std::errc::not_connected
+                                                                    : std::errc::no_buffer_space;
+        if (done) asio::post(io_, [d = std::move(done), err] { d(std::make_error_code(err)); });
+        return;
+    }
+    sendq_.emplace_back(std::move(bytes), std::move(done));
+    if (!writing_) write_next();
+}
+
+void SerialSource::write_next() {
+    if (sendq_.empty()) return;
+    writing_ = true;
+    auto self = shared_from_this();
+    const auto gen = generation_;
+    asio::async_write(stream_, asio::buffer(sendq_.front().first), [this, self, gen](boost::system::error_code ec, std::size_t) {
+        if (gen != generation_) return;
+        writing_ = false;
+        auto done = std::move(sendq_.front().second);
+        sendq_.pop_front();
+        if (done) done(ec ? std::error_code(ec.value(), std::system_category()) : std::error_code{});
+        if (ec) return fail("write failed: " + ec.message());
+        write_next();
+    });
+}
+
+}  // namespace tensile::drivers

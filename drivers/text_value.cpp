@@ -1,0 +1,63 @@
+// See text_value.hpp. Numbers go through std::from_chars (locale-free, no
+// allocation), which is also what keeps the text parsers fast.
+#include "text_value.hpp"
+
+#include <charconv>
+#include <cmath>
+
+namespace tensile::drivers {
+
+std::string_view trim(std::string_view s) {
+    while (!s.empty() && (s.front() == ' ' || s.front() == '\t')) s.remove_prefix(1);
+    while (!s.empty() && (s.back() == ' ' || s.back() == '\t')) s.remove_suffix(1);
+    return s;
+}
+
+namespace {
+bool is_nan_word(std::string_view s) {
+    if (!s.empty() && (s.front() == '-' || s.front() == '+')) s.remove_prefix(1);
+    return s.size() == 3 && (s[0] == 'n' || s[0] == 'N') && (s[1] == 'a' || s[1] == 'A') &&
+           (s[2] == 'n' || s[2] == 'N');
+}
+}  // namespace
+
+Reading read_value(std::string_view field, const ChannelUnit& unit) {
+    field = trim(field);
+    if (field == "OVER" || field == "----") return {ReadingKind::overload, 0.0};
+    if (is_nan_word(field)) return {ReadingKind::nan, 0.0};
+    if (field.empty()) return {};
+
+    const char* first = field.data();
+    const char* last = first + field.size();
+    if (*first == '+') ++first;  // from_chars does not take a leading '+'
+    double number = 0.0;
+    const auto [end, ec] = std::from_chars(first, last, number, std::chars_format::general);
+    if (ec == std::errc::result_out_of_range) number = (*first == '-') ? -HUGE_VAL : HUGE_VAL;  // counted out of range
+    else if (ec != std::errc{}) return {};
+    if (std::isnan(number)) return {ReadingKind::nan, 0.0};
+
+    const std::string_view suffix = trim(std::string_view(end, static_cast<std::size_t>(last - end)));
+    double factor = base_per_unit(unit);
+    if (!suffix.empty()) {
+        if (std::holds_alternative<ForceUnit>(unit)) {
+            const auto u = parse_force_unit(suffix);
+            if (!u) return {};
+            factor = newtons_per(*u);
+        } else {
+            const auto u = parse_length_unit(suffix);
+            if (!u) return {};
+            factor = millimetres_per(*u);
+        }
+    }
+    return {ReadingKind::number, number * factor};
+}
+
+std::optional<std::uint64_t> read_unsigned(std::string_view field) {
+    field = trim(field);
+    std::uint64_t v = 0;
+    const auto [end, ec] = std::from_chars(field.data(), field.data() + field.size(), v);
+    if (ec != std::errc{} || end != field.data() + field.size() || field.empty()) return std::nullopt;
+    return v;
+}
+
+}  // namespace tensile::drivers

@@ -1,0 +1,23 @@
+// Reading one value field of a text record: a number with an optional unit
+// suffix (`1523.42 N`, `0.0123mm`), or the words OVER / ---- (overload) and
+// nan. Also small helpers shared by the text formats. Pure, never throws.
+#pragma once
+
+#include <cstdint>
+#include <optional>
+#include <string_view>
+
+#include "parser.hpp"
+
+namespace tensile::drivers {
+
+// `field` is trimmed of spaces and tabs first. A unit suffix must be one of the
+// channel's quantity (N, kN, lbf, kgf / mm, um, in); anything else is bad.
+Reading read_value(std::string_view field, const ChannelUnit& unit);
+
+// Unsigned decimal integer (device time in µs or a counter), trimmed.
+std::optional<std::uint64_t> read_unsigned(std::string_view field);
+
+std::string_view trim(std::string_view s);
+
+}  // namespace tensile::drivers

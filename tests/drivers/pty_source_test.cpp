@@ -1,0 +1,148 @@
+// Serial source over a pseudo-terminal: the test holds the master side (as the
+// simulator's --pty ports do) and the source opens the slave through termios.
+#include <catch2/catch.hpp>
+
+#include <fcntl.h>
+#include <unistd.h>
+
+#include <cstdlib>
+#include <string>
+
+#include <boost/asio/io_context.hpp>
+
+#include "drivers/parser_registry.hpp"
+#include "drivers/serial_source.hpp"
+
+using namespace tensile::drivers;
+
+namespace {
+
+struct Pty {
+    int master = -1;
+    std::string slave;
+    Pty() {
+        master = ::posix_openpt(O_RDWR | O_NOCTTY);
+        REQUIRE(master >= 0);
+        ::fcntl(master, F_SETFL, ::fcntl(master, F_GETFL) | O_NONBLOCK);
+        REQUIRE(::grantpt(master) == 0);
+        REQUIRE(::unlockpt(master) == 0);
+        slave = ::ptsname(master);
+    }
+    ~Pty() { close(); }
+    void close() {
+        if (master >= 0) ::close(master);
+        master = -1;
+    }
+    void write(const std::string& s) const { REQUIRE(::write(master, s.data(), s.size()) == static_cast<ssize_t>(s.size())); }
+    std::string read_some() const {
+        char b[256];
+        const ssize_t n = ::read(master, b, sizeof b);
+        return n > 0 ? std::string(b, static_cast<std::size_t>(n)) : std::string();
+    }
+};
+
+template <class Pred>
+bool run_until(boost::asio::io_context& io, Pred done, int max_ms = 3000) {
+    for (int i = 0; i < max_ms / 5 && !done(); ++i) {
+        io.restart();
+        io.run_for(std::chrono::milliseconds(5));
+    }
+    return done();
+}
+
+FormatConfig two_channels() {
+    FormatConfig f;
+    f.time_field = 0;
+    ChannelSpec force;
+    force.name = "force";
+    force.field = 1;
+    ChannelSpec ext;
+    ext.name = "extension";
+    ext.unit = tensile::LengthUnit::millimetre;
+    ext.field = 2;
+    f.channels = {force, ext};
+    return f;
+}
+
+}  // namespace
+
+TEST_CASE("pty: the slave is recognised as a pseudo-terminal", "[pty][serial]") {
+    Pty pty;
+    CHECK(is_pseudo_terminal(pty.slave));
+    CHECK_FALSE(is_pseudo_terminal("/dev/null"));
+}
+
+TEST_CASE("pty source: lines written on the master arrive as samples; commands go back", "[pty][serial][source]") {
+    Pty pty;
+    boost::asio::io_context io;
+    SerialSourceConfig cfg;
+    cfg.name = "load";
+    cfg.path = pty.slave;
+    cfg.settings.baud = 115200;
+    auto src = SerialSource::create(io, cfg);
+    const auto parser = builtin_formats().make(two_channels());
+    std::vector<Sample> samples;
+    std::vector<std::string> messages;
+    parser->on_message([&](std::string_view m) { messages.emplace_back(m); });
+    std::vector<GapEvent> gaps;
+    src->start({[&](std::span<const std::byte> b, double) { parser->feed(b, samples); },
+                [&](SourceState s) {
+                    if (s != SourceState::connected) parser->break_stream();
+                },
+                [&](const GapEvent& g) { gaps.push_back(g); }});
+    REQUIRE(src->state() == SourceState::connected);
+    CHECK(src->via_termios());
+
+    std::string all;
+    for (int i = 0; i < 200; ++i) all += std::to_string(1000 * i) + "," + std::to_string(i) + " N," + std::to_string(i) + "e-3 mm\r\n";
+    all += "#ok ping\r\n";
+    // Write in uneven pieces so reads see torn lines.
+    for (std::size_t at = 0; at < all.size(); at += 777) pty.write(all.substr(at, 777));
+    REQUIRE(run_until(io, [&] { return samples.size() == 400 && messages.size() == 1; }));
+    for (int i = 0; i < 200; ++i) {
+        CHECK(samples[2 * i].value == i);
+        CHECK(samples[2 * i + 1].value == Approx(i * 1e-3).epsilon(1e-15));
+    }
+    CHECK(parser->counters().stream.bad_records == 0);
+
+    std::error_code sent{std::make_error_code(std::errc::timed_out)};
+    src->send("hold\n", [&](std::error_code ec) { sent = ec; });
+    REQUIRE(run_until(io, [&] { return !sent; }));
+    std::string got;
+    REQUIRE(run_until(io, [&] { return (got += pty.read_some()).size() >= 5; }));
+    CHECK(got == "hold\n");
+
+    // A pty has no modem lines: raising RTS must be reported as an error, not silently accepted.
+    std::string detail;
+    CHECK(src->set_line(ModemLine::rts, true, detail));
+    CHECK_FALSE(detail.empty());
+
+    // The device goes away: the source reports the loss as an open gap and keeps retrying.
+    pty.close();
+    REQUIRE(run_until(io, [&] { return !gaps.empty(); }));
+    CHECK(gaps[0].open());
+    CHECK(src->state() == SourceState::waiting);
+    src->stop();
+    io.restart();
+    io.run_for(std::chrono::milliseconds(20));
+}
+
+TEST_CASE("serial source: a missing port leaves it waiting with a clear reason", "[serial][source]") {
+    boost::asio::io_context io;
+    SerialSourceConfig cfg;
+    cfg.name = "ext";
+    cfg.path = "/dev/does-not-exist-tensiled";
+    auto src = SerialSource::create(io, cfg);
+    std::vector<SourceState> states;
+    src->start({nullptr, [&](SourceState s) { states.push_back(s); }, nullptr});
+    CHECK(states == std::vector<SourceState>{SourceState::connecting, SourceState::waiting});
+    src->stop();
+    io.run_for(std::chrono::milliseconds(10));
+}
+
+TEST_CASE("serial ports can be listed", "[serial]") {
+    std::string error;
+    const auto ports = list_serial_ports(error);
+    CHECK(error.empty());
+    for (const auto& p : ports) CHECK_FALSE(p.path.empty());
+}
