@@ -1,0 +1,155 @@
+// tensiled: the acquisition and monitoring daemon for one tensile-testing rig.
+//
+//   tensiled --config FILE        run a rig
+//   tensiled --check-config FILE  validate a config and exit (0 good, 2 bad)
+//   tensiled --demo               run the embedded demo rig (simulator child)
+//
+// Logs go to stdout (journald-friendly) and a rotating file in the data
+// folder. SIGINT/SIGTERM finish what is in hand and exit cleanly. Bad config:
+// one message naming the key, exit 2; nothing half-starts.
+//
+// tensiled is no interlock: the frame's own limits, guards and emergency stop
+// stay in charge.
+#include <CLI/CLI.hpp>
+#include <boost/asio/io_context.hpp>
+#include <boost/asio/ip/tcp.hpp>
+#include <boost/asio/signal_set.hpp>
+#include <algorithm>
+#include <filesystem>
+#include <iostream>
+#include <spdlog/sinks/rotating_file_sink.h>
+#include <spdlog/sinks/stdout_sinks.h>
+#include <spdlog/spdlog.h>
+
+#include "config/daemon_config.hpp"
+#include "demo_rig.hpp"
+#include "rig_service.hpp"
+
+namespace {
+
+std::shared_ptr<spdlog::logger> make_logger(const std::filesystem::path& data_dir, const std::string& level) {
+    std::vector<spdlog::sink_ptr> sinks{std::make_shared<spdlog::sinks::stdout_sink_mt>()};
+    std::error_code ec;
+    std::filesystem::create_directories(data_dir, ec);
+    if (!ec)
+        sinks.push_back(std::make_shared<spdlog::sinks::rotating_file_sink_mt>((data_dir / "tensiled.log").string(),
+                                                                                5 * 1024 * 1024, 3));
+    auto log = std::make_shared<spdlog::logger>("tensiled", sinks.begin(), sinks.end());
+    log->set_level(spdlog::level::from_str(level));
+    log->set_pattern("%Y-%m-%d %H:%M:%S.%e %^%l%$ %v");
+    log->flush_on(spdlog::level::info);
+    return log;
+}
+
+// A free loopback port for the demo's simulator.
+std::uint16_t free_port() {
+    boost::asio::io_context io;
+    boost::asio::ip::tcp::acceptor a(io, {boost::asio::ip::address_v4::loopback(), 0});
+    return a.local_endpoint().port();
+}
+
+int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::size_t demo_runs,
+               const std::filesystem::path& self) {
+    auto log = make_logger(config.data_dir, config.log_level);
+    log->info("tensiled {} starting; rig '{}', data in {}", TENSILED_VERSION, config.rig.name, config.data_dir.string());
+    log->warn("tensiled is no interlock: the frame's own limits, guards and emergency stop stay in charge");
+    boost::asio::io_context io;
+    tensile::RigService rig(io, config, log);
+    std::unique_ptr<tensile::DemoRig> demo_rig;
+    if (demo) {
+        const auto sim = self.parent_path() / "tensile-sim";
+        const auto port = static_cast<std::uint16_t>(config.drivers.sources.front().tcp.port);
+        // Our demo scenario's running order: the yield-point steel first.
+        auto queue = tensile::list_demo_specimens(sim);
+        std::stable_sort(queue.begin(), queue.end(), [](const auto& a, const auto& b) {
+            return (a.material.find("s355") != std::string::npos) > (b.material.find("s355") != std::string::npos);
+        });
+        demo_rig = std::make_unique<tensile::DemoRig>(io, rig, sim, port, std::move(queue), demo_speed, demo_runs,
+                                                      config.data_dir, log);
+    }
+    tensile::RigObservers observers;
+    observers.on_alarm = [&](const std::string& kind, const std::string& message) {
+        log->warn("alarm {}: {}", kind, message);
+        if (kind == "extensometer_alert" && demo_rig) demo_rig->on_extensometer_alert();
+    };
+    observers.on_run_end = [&](const tensile::RunInfo& run, tensile::RunState end, const tensile::Results& results) {
+        log->info("run {} ended: {}", run.number, tensile::name_of(end));
+        if (demo_rig) demo_rig->on_run_end(run, end, results);
+    };
+    rig.observe(observers);
+
+    boost::asio::signal_set signals(io, SIGINT, SIGTERM);
+    signals.async_wait([&](const boost::system::error_code& ec, int signo) {
+        if (ec) return;
+        log->info("signal {}: finishing and exiting", signo);
+        if (tensile::live(rig.state())) (void)rig.abort_run("daemon stopped by signal");
+        rig.stop();
+        io.stop();
+    });
+    rig.start();
+    if (demo_rig) {
+        std::cout << "demo: the simulator plays Harbourline Metals specimens on 127.0.0.1:"
+                  << config.drivers.sources.front().tcp.port << "; results print as each run ends. Ctrl-C to stop.\n"
+                  << std::flush;
+        demo_rig->start();
+    }
+    io.run();
+    log->info("tensiled stopped");
+    return 0;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+    CLI::App app{"tensiled: acquisition and live monitoring for a tensile-testing rig"};
+    std::string config_file, check_file;
+    bool demo = false;
+    double demo_speed = 1.0;
+    std::size_t demo_runs = 0;
+    std::string data_dir = "data/demo";
+    auto* o_config = app.add_option("--config", config_file, "Rig config (TOML) to run");
+    auto* o_check = app.add_option("--check-config", check_file, "Validate a config and exit");
+    auto* o_demo = app.add_flag("--demo", demo, "Run the embedded demo rig (a simulator child process)");
+    app.add_option("--demo-speed", demo_speed, "Demo: simulated seconds per wall second")->check(CLI::Range(0.1, 20.0));
+    app.add_option("--demo-data", data_dir, "Demo: data folder")->capture_default_str();
+    app.add_option("--demo-runs", demo_runs, "Demo: stop after this many specimens (0: play all, then keep serving)");
+    o_config->excludes(o_check)->excludes(o_demo);
+    o_check->excludes(o_demo);
+    app.set_version_flag("--version", std::string("tensiled ") + TENSILED_VERSION);
+    try {
+        app.parse(argc, argv);
+    } catch (const CLI::ParseError& e) {
+        return app.exit(e) == 0 ? 0 : 2;
+    }
+    if (config_file.empty() && check_file.empty() && !demo) {
+        std::cerr << "tensiled: give --config FILE, --check-config FILE or --demo\n";
+        return 2;
+    }
+    tensile::DaemonConfig config;
+    try {
+        if (demo) {
+            const auto dir = std::filesystem::absolute(data_dir);
+            config = tensile::load_daemon_config_text(tensile::demo_config_text(dir, free_port(), 8470), dir);
+        } else {
+            config = tensile::load_daemon_config(check_file.empty() ? config_file : check_file);
+        }
+    } catch (const tensile::drivers::ConfigError& e) {
+        std::cerr << "tensiled: " << (check_file.empty() ? config_file : check_file) << ": " << e.what() << '\n';
+        return 2;
+    } catch (const std::exception& e) {
+        std::cerr << "tensiled: " << e.what() << '\n';
+        return 2;
+    }
+    if (!check_file.empty()) {
+        std::cout << check_file << ": good (" << config.drivers.sources.size() << " sources, " << config.profiles.size()
+                  << " profiles)\n";
+        return 0;
+    }
+    try {
+        const auto self = std::filesystem::canonical("/proc/self/exe");
+        return run_daemon(std::move(config), demo, demo_speed, demo_runs, self);
+    } catch (const std::exception& e) {
+        std::cerr << "tensiled: " << e.what() << '\n';
+        return 1;
+    }
+}
