@@ -68,6 +68,7 @@ RecorderCounters Recorder::counters() const {
     c.frames_queued = inbox_.frames_accepted();
     c.frames_dropped = inbox_.frames_dropped.load();
     c.messages_dropped = inbox_.messages_dropped.load();
+    c.frames_waiting = inbox_.frames_waiting();
     c.frame_high_water = inbox_.frame_high_water();
     c.message_high_water = inbox_.message_high_water();
     if (writer_) {

@@ -64,6 +64,7 @@ struct RecorderCounters {
     std::uint64_t raw_bytes_written = 0;
     std::uint64_t commits = 0;
     std::uint64_t write_errors = 0;
+    std::size_t frames_waiting = 0;         // in the inbox now
     std::size_t frame_high_water = 0;
     std::size_t message_high_water = 0;
     bool disk_low = false;

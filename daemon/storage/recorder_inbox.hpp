@@ -95,6 +95,7 @@ public:
 
     void wake() { wake_.notify_one(); }
 
+    std::size_t frames_waiting() const { std::lock_guard lock(mutex_); return frames_.size(); }
     std::uint64_t frames_accepted() const { std::lock_guard lock(mutex_); return frames_accepted_; }
     std::size_t frame_high_water() const { std::lock_guard lock(mutex_); return frame_high_water_; }
     std::size_t message_high_water() const { std::lock_guard lock(mutex_); return message_high_water_; }
