@@ -77,6 +77,7 @@ RecorderCounters Recorder::counters() const {
         c.frames_refused_disk = writer_->frames_refused_disk.load();
         c.frames_without_run = writer_->frames_without_run.load();
         c.raw_bytes_written = writer_->raw_bytes_written.load();
+        c.raw_bytes_refused = writer_->raw_bytes_refused.load();
         c.commits = writer_->commits.load();
         c.write_errors = writer_->write_errors.load();
         c.disk_low = writer_->disk_low.load();

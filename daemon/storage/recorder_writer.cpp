@@ -73,7 +73,10 @@ void Recorder::Writer::handle(Message& m) {
         close_run();
     } else if (auto* raw = std::get_if<RawPiece>(&m.payload)) {
         raw_in_flight_.fetch_sub(raw->bytes.size(), std::memory_order_relaxed);
-        if (!run_ || disk_low.load()) return;  // counted by the frames of the same moment; bytes alone are not a run
+        if (!run_ || disk_low.load()) {
+            raw_bytes_refused.fetch_add(raw->bytes.size(), std::memory_order_relaxed);
+            return;
+        }
         RawBuffer& buf = raw_[raw->source];
         if (buf.chunk.source.empty()) buf.chunk.source = raw->source;
         buf.chunk.bytes += raw->bytes;

@@ -23,7 +23,7 @@ public:
 
     // Read from other threads.
     std::atomic<std::uint64_t> frames_written{0}, frames_committed{0}, frames_refused_disk{0}, frames_without_run{0},
-        raw_bytes_written{0}, commits{0}, write_errors{0};
+        raw_bytes_written{0}, raw_bytes_refused{0}, commits{0}, write_errors{0};
     std::atomic<bool> disk_low{false};
 
 private:

@@ -162,10 +162,13 @@ TEST_CASE("below the free-space minimum, recording stops with an alarm and store
     REQUIRE(rec.ok());
     (*rec)->begin_run(run);
     REQUIRE((*rec)->try_push(frames_from(2000, 700)) == 700);  // the inbox takes them; the writer refuses them
+    REQUIRE((*rec)->try_push_raw("load-cell", "2700,13500.00 N\n", 2.7));
     REQUIRE((*rec)->flush().ok());
     auto c = (*rec)->counters();
     CHECK(c.disk_low);
     CHECK(c.frames_refused_disk == 700);
+    CHECK(c.raw_bytes_refused == 16);  // "2700,13500.00 N\n"
+    CHECK(c.raw_bytes_written == 0);
     auto store = Store::open(path);
     REQUIRE(store->load_frames(run)->size() == 2000);
     // The guard may trip before the run is opened on the writer, so the alarm
