@@ -24,6 +24,7 @@
 #include "config/daemon_config.hpp"
 #include "demo_rig.hpp"
 #include "rig_service.hpp"
+#include "run_keeper.hpp"
 
 namespace {
 
@@ -54,6 +55,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     log->info("tensiled {} starting; rig '{}', data in {}", TENSILED_VERSION, config.rig.name, config.data_dir.string());
     log->warn("tensiled is no interlock: the frame's own limits, guards and emergency stop stay in charge");
     boost::asio::io_context io;
+    tensile::RunKeeper keeper(config.data_dir / "tensiled.db", config.min_free_mb, log);
     tensile::RigService rig(io, config, log);
     std::unique_ptr<tensile::DemoRig> demo_rig;
     if (demo) {
@@ -68,12 +70,21 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
                                                       config.data_dir, log);
     }
     tensile::RigObservers observers;
+    observers.on_armed = [&](const tensile::RunInfo& run) {
+        keeper.armed(run, config.profiles.at(run.profile), config.text);
+    };
+    observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) { keeper.step(run, out); };
+    observers.on_raw = [&](const std::string& source, std::span<const std::byte> bytes, double arrival_s) {
+        if (tensile::live(rig.state())) keeper.raw(source, bytes, arrival_s);
+    };
     observers.on_alarm = [&](const std::string& kind, const std::string& message) {
         log->warn("alarm {}: {}", kind, message);
+        keeper.alarm(kind, message);
         if (kind == "extensometer_alert" && demo_rig) demo_rig->on_extensometer_alert();
     };
     observers.on_run_end = [&](const tensile::RunInfo& run, tensile::RunState end, const tensile::Results& results) {
         log->info("run {} ended: {}", run.number, tensile::name_of(end));
+        keeper.ended(run, end, results);
         if (demo_rig) demo_rig->on_run_end(run, end, results);
     };
     rig.observe(observers);
@@ -94,6 +105,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         demo_rig->start();
     }
     io.run();
+    keeper.stop();
     log->info("tensiled stopped");
     return 0;
 }

@@ -1,0 +1,118 @@
+// Runs into the database; see run_keeper.hpp.
+#include "run_keeper.hpp"
+
+#include <chrono>
+#include <stdexcept>
+
+#include "daemon/offline/specimen_json.hpp"
+
+namespace tensile {
+
+double unix_now_s() {
+    return std::chrono::duration<double>(std::chrono::system_clock::now().time_since_epoch()).count();
+}
+
+namespace {
+storage::RunState stored(RunState s) {
+    switch (s) {
+        case RunState::armed: return storage::RunState::armed;
+        case RunState::running: return storage::RunState::running;
+        case RunState::finished: return storage::RunState::finished;
+        case RunState::aborted: return storage::RunState::aborted;
+        case RunState::interrupted: return storage::RunState::interrupted;
+        case RunState::faulted: return storage::RunState::faulted;
+        case RunState::idle: break;
+    }
+    return storage::RunState::aborted;
+}
+}  // namespace
+
+RunKeeper::RunKeeper(const std::filesystem::path& database, double min_free_mb, std::shared_ptr<spdlog::logger> log)
+    : path_(database), log_(std::move(log)) {
+    std::error_code ec;
+    std::filesystem::create_directories(path_.parent_path(), ec);
+    auto store = storage::Store::open(path_.string());
+    if (!store) throw std::runtime_error("cannot open the database " + path_.string() + ": " + store.error());
+    store_.emplace(std::move(*store));
+    if (auto recovered = store_->recover_interrupted_runs(unix_now_s()); recovered && *recovered > 0)
+        log_->warn("{} run(s) left open by a daemon that stopped were closed as interrupted", *recovered);
+    storage::RecorderOptions options;
+    options.path = path_.string();
+    options.min_free_bytes = static_cast<std::uint64_t>(min_free_mb * 1024 * 1024);
+    auto recorder = storage::Recorder::start(options);
+    if (!recorder) throw std::runtime_error("cannot start the recorder on " + path_.string() + ": " + recorder.error());
+    recorder_ = std::move(*recorder);
+    log_->info("runs are kept in {}", path_.string());
+}
+
+RunKeeper::~RunKeeper() { stop(); }
+
+void RunKeeper::stop() {
+    if (recorder_) recorder_->stop();
+}
+
+void RunKeeper::armed(const RunInfo& run, const RunSettings& settings, const std::string& config_text) {
+    storage::NewRun n;
+    auto specimen = to_json(run.specimen);
+    specimen["S0_mm2"] = run.geometry.S0_mm2;
+    specimen["L0_mm"] = run.geometry.L0_mm;
+    n.specimen_json = specimen.dump();
+    n.material = run.specimen.material.empty() ? run.specimen.label : run.specimen.material;
+    auto profile = to_json(settings.profile);
+    profile["preload_N"] = settings.preload_N;
+    profile["tare_frames"] = settings.tare_frames;
+    n.profile_json = profile.dump();
+    n.config_snapshot = config_text;
+    n.created_unix_s = unix_now_s();
+    auto id = store_->create_run(n);
+    if (!id) {
+        log_->error("cannot store run {}: {}", run.number, id.error());
+        run_id_.reset();
+        return;
+    }
+    run_id_ = *id;
+    recorder_->begin_run(*id);
+    log_->info("run {} is stored as run id {}", run.number, *id);
+}
+
+void RunKeeper::step(const RunInfo&, const RunOutput& out) {
+    if (!run_id_) return;
+    if (!out.frames.empty()) recorder_->try_push(std::span<const Frame>(out.frames));
+    for (const auto& e : out.events) recorder_->try_push_event(e);
+    for (const auto& t : out.transitions) {
+        if (!live(t.to)) continue;  // the end is filed by ended()
+        if (auto s = store_->set_state(*run_id_, stored(t.to), t.cause, unix_now_s()); !s)
+            log_->error("cannot store the state of run {}: {}", *run_id_, s.error());
+    }
+}
+
+void RunKeeper::raw(const std::string& source, std::span<const std::byte> bytes, double arrival_s) {
+    if (!run_id_) return;
+    recorder_->try_push_raw(source, std::string_view(reinterpret_cast<const char*>(bytes.data()), bytes.size()),
+                            arrival_s);
+}
+
+void RunKeeper::alarm(const std::string& kind, const std::string& message) {
+    storage::AlarmRecord a;
+    a.run_id = run_id_;
+    a.unix_s = unix_now_s();
+    a.kind = kind;
+    a.message = message;
+    recorder_->try_push_alarm(a);
+}
+
+void RunKeeper::ended(const RunInfo& run, RunState end, const Results& results) {
+    if (!run_id_) return;
+    const auto id = *run_id_;
+    // Everything the recorder holds goes in before the digest is taken.
+    recorder_->end_run();
+    recorder_->flush();
+    run_id_.reset();
+    if (auto s = store_->set_results(id, results); !s) log_->error("cannot store the results of run {}: {}", id, s.error());
+    if (auto s = store_->finish_run(id, stored(end), "run " + std::string(name_of(end)), unix_now_s()); !s)
+        log_->error("cannot close run {}: {}", id, s.error());
+    else
+        log_->info("run {} (id {}) stored: {}", run.number, id, name_of(end));
+}
+
+}  // namespace tensile

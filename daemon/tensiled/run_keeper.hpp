@@ -1,0 +1,56 @@
+// Keeps every run in the database: opens the store at start (runs left live
+// by a daemon that died become interrupted), starts the recorder's writer
+// thread, and files what the rig reports: the run at arming (specimen,
+// profile, config text, software version), frames, raw bytes, events and
+// alarms through the recorder's bounded queue (never waiting on the disk),
+// and at the end the results, final state and digest.
+//
+// Error policy: opening is start-up (throws std::runtime_error with the
+// file). Afterwards a failed write is logged and raised as an alarm, and the
+// rig keeps running: losing the monitor is better than stopping a test.
+#pragma once
+
+#include <cstdint>
+#include <filesystem>
+#include <memory>
+#include <optional>
+#include <string>
+
+#include <spdlog/spdlog.h>
+
+#include "daemon/storage/recorder.hpp"
+#include "daemon/storage/store.hpp"
+#include "rig_service.hpp"
+
+namespace tensile {
+
+class RunKeeper {
+public:
+    RunKeeper(const std::filesystem::path& database, double min_free_mb, std::shared_ptr<spdlog::logger> log);
+    ~RunKeeper();
+
+    void armed(const RunInfo& run, const RunSettings& settings, const std::string& config_text);
+    void step(const RunInfo& run, const RunOutput& out);
+    void raw(const std::string& source, std::span<const std::byte> bytes, double arrival_s);
+    void alarm(const std::string& kind, const std::string& message);
+    void ended(const RunInfo& run, RunState end, const Results& results);
+    void stop();
+
+    [[nodiscard]] std::optional<std::int64_t> current_run() const { return run_id_; }
+    [[nodiscard]] storage::RecorderCounters counters() const { return recorder_->counters(); }
+    [[nodiscard]] const std::filesystem::path& database() const { return path_; }
+    // The control thread's own connection, for reads by the monitor.
+    storage::Store& store() { return *store_; }
+
+private:
+    std::filesystem::path path_;
+    std::shared_ptr<spdlog::logger> log_;
+    std::optional<storage::Store> store_;
+    std::unique_ptr<storage::Recorder> recorder_;
+    std::optional<std::int64_t> run_id_;
+};
+
+// Wall-clock seconds since 1970, for stored times.
+double unix_now_s();
+
+}  // namespace tensile
