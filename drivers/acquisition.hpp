@@ -5,7 +5,8 @@
 // Samples are handed to `on_samples` synchronously, in arrival order, from the
 // io_context thread; the consumer must not block (queue them, bounded).
 // Fault totals are logged every `report_every_s` at most, and only when they
-// changed, never once per bad byte.
+// changed, never once per bad byte. The source's handlers point back here, so
+// stop() and let the io_context finish (or destroy it) before destroying this.
 #pragma once
 
 #include <functional>
