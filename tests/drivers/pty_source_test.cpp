@@ -3,6 +3,7 @@
 #include <catch2/catch.hpp>
 
 #include <fcntl.h>
+#include <termios.h>
 #include <unistd.h>
 
 #include <cstdlib>
@@ -145,4 +146,33 @@ TEST_CASE("serial ports can be listed", "[serial]") {
     const auto ports = list_serial_ports(error);
     CHECK(error.empty());
     for (const auto& p : ports) CHECK_FALSE(p.path.empty());
+}
+
+TEST_CASE("serial handle: line settings reach the terminal", "[pty][serial]") {
+    Pty pty;
+    SerialSettings s;
+    s.baud = 9600;
+    s.data_bits = 7;
+    s.parity = Parity::odd;
+    s.stop_bits = 2;
+    s.flow = FlowControl::xonxoff;
+    SerialHandle h;
+    std::string detail;
+    REQUIRE_FALSE(h.open(pty.slave, s, detail));
+    REQUIRE(h.via_termios());
+    termios t{};
+    REQUIRE(::tcgetattr(h.fd(), &t) == 0);
+    CHECK(::cfgetispeed(&t) == B9600);
+    CHECK(::cfgetospeed(&t) == B9600);
+    // The Linux pty driver forces CS8 and clears PARENB whatever is asked
+    // (pty_set_termios in drivers/tty/pty.c), so those two cannot be seen here.
+    CHECK((t.c_cflag & CSIZE) == CS8);
+    CHECK((t.c_cflag & PARODD) != 0);
+    CHECK((t.c_cflag & CSTOPB) != 0);
+    CHECK((t.c_iflag & IXON) != 0);
+    CHECK((t.c_lflag & (ICANON | ECHO)) == 0);  // raw: no line editing, no echo back to the device
+
+    s.baud = 12345;  // not a termios rate
+    CHECK(h.open(pty.slave, s, detail) == std::errc::invalid_argument);
+    CHECK(detail.find("12345") != std::string::npos);
 }
