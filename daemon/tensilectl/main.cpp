@@ -4,6 +4,7 @@
 #include <iostream>
 
 #include "analyze_command.hpp"
+#include "verify_command.hpp"
 
 int main(int argc, char** argv) {
     CLI::App app{"tensilectl: offline analysis and control for tensiled"};
@@ -11,6 +12,7 @@ int main(int argc, char** argv) {
     app.set_version_flag("--version", std::string("tensilectl ") + TENSILED_VERSION);
     int exit_code = 0;
     tensile::ctl::add_analyze_command(app, exit_code);
+    tensile::ctl::add_verify_command(app, exit_code);
     try {
         app.parse(argc, argv);
     } catch (const CLI::ParseError& e) {

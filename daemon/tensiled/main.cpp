@@ -73,7 +73,11 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     observers.on_armed = [&](const tensile::RunInfo& run) {
         keeper.armed(run, config.profiles.at(run.profile), config.text);
     };
-    observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) { keeper.step(run, out); };
+    observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) {
+        for (const auto& t : out.transitions)
+            if (t.to == tensile::RunState::running) keeper.started(rig.controller());
+        keeper.step(run, out);
+    };
     observers.on_raw = [&](const std::string& source, std::span<const std::byte> bytes, double arrival_s) {
         if (tensile::live(rig.state())) keeper.raw(source, bytes, arrival_s);
     };

@@ -86,6 +86,17 @@ void RunKeeper::step(const RunInfo&, const RunOutput& out) {
     }
 }
 
+void RunKeeper::started(const RunController& controller) {
+    if (!run_id_) return;
+    const double now = unix_now_s();
+    const double* tare = controller.tare();
+    const std::pair<const char*, double> values[] = {{"armed_at_s", controller.armed_at()},
+                                                      {"tare_force_N", tare[0]},
+                                                      {"tare_extension_mm", tare[1]},
+                                                      {"tare_crosshead_mm", tare[2]}};
+    for (const auto& [name, value] : values) recorder_->try_push_counter({run_id_, "run", name, value, now});
+}
+
 void RunKeeper::raw(const std::string& source, std::span<const std::byte> bytes, double arrival_s) {
     if (!run_id_) return;
     recorder_->try_push_raw(source, std::string_view(reinterpret_cast<const char*>(bytes.data()), bytes.size()),

@@ -31,6 +31,9 @@ public:
 
     void armed(const RunInfo& run, const RunSettings& settings, const std::string& config_text);
     void step(const RunInfo& run, const RunOutput& out);
+    // The run started: its arming time (host monotonic) and tare, which
+    // verification needs to rebuild the frames from the raw bytes.
+    void started(const RunController& controller);
     void raw(const std::string& source, std::span<const std::byte> bytes, double arrival_s);
     void alarm(const std::string& kind, const std::string& message);
     void ended(const RunInfo& run, RunState end, const Results& results);
