@@ -50,7 +50,7 @@ std::uint16_t free_port() {
 }
 
 int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::size_t demo_runs,
-               const std::filesystem::path& self) {
+               const std::vector<std::string>& demo_faults, const std::filesystem::path& self) {
     auto log = make_logger(config.data_dir, config.log_level);
     log->info("tensiled {} starting; rig '{}', data in {}", TENSILED_VERSION, config.rig.name, config.data_dir.string());
     log->warn("tensiled is no interlock: the frame's own limits, guards and emergency stop stay in charge");
@@ -68,10 +68,12 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         });
         demo_rig = std::make_unique<tensile::DemoRig>(io, rig, sim, port, std::move(queue), demo_speed, demo_runs,
                                                       config.data_dir, log);
+        demo_rig->inject(demo_faults);
     }
     tensile::RigObservers observers;
     observers.on_armed = [&](const tensile::RunInfo& run) {
         keeper.armed(run, config.profiles.at(run.profile), config.text);
+        keeper.sources_at_arming(rig.acquisition().status());
     };
     observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) {
         for (const auto& t : out.transitions)
@@ -88,6 +90,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     };
     observers.on_run_end = [&](const tensile::RunInfo& run, tensile::RunState end, const tensile::Results& results) {
         log->info("run {} ended: {}", run.number, tensile::name_of(end));
+        keeper.sources_at_end(rig.acquisition().status());
         keeper.ended(run, end, results);
         if (demo_rig) demo_rig->on_run_end(run, end, results);
     };
@@ -122,12 +125,14 @@ int main(int argc, char** argv) {
     bool demo = false;
     double demo_speed = 1.0;
     std::size_t demo_runs = 0;
+    std::vector<std::string> demo_faults;
     std::string data_dir = "data/demo";
     auto* o_config = app.add_option("--config", config_file, "Rig config (TOML) to run");
     auto* o_check = app.add_option("--check-config", check_file, "Validate a config and exit");
     auto* o_demo = app.add_flag("--demo", demo, "Run the embedded demo rig (a simulator child process)");
     app.add_option("--demo-speed", demo_speed, "Demo: simulated seconds per wall second")->check(CLI::Range(0.1, 20.0));
     app.add_option("--demo-data", data_dir, "Demo: data folder")->capture_default_str();
+    app.add_option("--demo-fault", demo_faults, "Demo: a fault for the simulator to inject, KIND@START[+DURATION][:PARAM]");
     app.add_option("--demo-runs", demo_runs, "Demo: stop after this many specimens (0: play all, then keep serving)");
     o_config->excludes(o_check)->excludes(o_demo);
     o_check->excludes(o_demo);
@@ -163,7 +168,7 @@ int main(int argc, char** argv) {
     }
     try {
         const auto self = std::filesystem::canonical("/proc/self/exe");
-        return run_daemon(std::move(config), demo, demo_speed, demo_runs, self);
+        return run_daemon(std::move(config), demo, demo_speed, demo_runs, demo_faults, self);
     } catch (const std::exception& e) {
         std::cerr << "tensiled: " << e.what() << '\n';
         return 1;
