@@ -16,6 +16,7 @@
 #include <boost/asio/signal_set.hpp>
 #include <algorithm>
 #include <filesystem>
+#include <functional>
 #include <iostream>
 #include <spdlog/sinks/rotating_file_sink.h>
 #include <spdlog/sinks/stdout_sinks.h>
@@ -72,7 +73,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     }
     tensile::RigObservers observers;
     observers.on_armed = [&](const tensile::RunInfo& run) {
-        keeper.armed(run, config.profiles.at(run.profile), config.text);
+        keeper.armed(run, rig.config().profiles.at(run.profile), rig.config().text);
         keeper.sources_at_arming(rig.acquisition().status());
     };
     observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) {
@@ -104,6 +105,29 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         rig.stop();
         io.stop();
     });
+    // SIGHUP: re-read the config; profiles take effect for the next run.
+    boost::asio::signal_set hangup(io, SIGHUP);
+    std::function<void()> wait_hangup = [&] {
+        hangup.async_wait([&](const boost::system::error_code& ec, int) {
+            if (ec) return;
+            if (config.file.empty()) {
+                log->warn("SIGHUP: the demo rig has no config file to re-read");
+            } else {
+                try {
+                    const auto fresh = tensile::load_daemon_config(config.file);
+                    if (auto r = rig.reload(fresh); r)
+                        log->info("SIGHUP: profiles re-read from {}; sources and outputs change on restart only",
+                                  config.file.string());
+                    else
+                        log->warn("SIGHUP: {}", r.error());
+                } catch (const std::exception& e) {
+                    log->error("SIGHUP: {} refused, the running config stays: {}", config.file.string(), e.what());
+                }
+            }
+            wait_hangup();
+        });
+    };
+    wait_hangup();
     rig.start();
     if (demo_rig) {
         std::cout << "demo: the simulator plays Harbourline Metals specimens on 127.0.0.1:"
