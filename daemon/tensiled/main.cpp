@@ -51,7 +51,7 @@ std::uint16_t free_port() {
 }
 
 int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::size_t demo_runs,
-               const std::vector<std::string>& demo_faults, const std::filesystem::path& self) {
+               const std::vector<std::string>& demo_faults, double demo_fast_rate, const std::filesystem::path& self) {
     auto log = make_logger(config.data_dir, config.log_level);
     log->info("tensiled {} starting; rig '{}', data in {}", TENSILED_VERSION, config.rig.name, config.data_dir.string());
     log->warn("tensiled is no interlock: the frame's own limits, guards and emergency stop stay in charge");
@@ -70,6 +70,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         demo_rig = std::make_unique<tensile::DemoRig>(io, rig, sim, port, std::move(queue), demo_speed, demo_runs,
                                                       config.data_dir, log);
         demo_rig->inject(demo_faults);
+        if (demo_fast_rate > 0) demo_rig->flat_out(demo_fast_rate);
     }
     tensile::RigObservers observers;
     observers.on_armed = [&](const tensile::RunInfo& run) {
@@ -150,6 +151,7 @@ int main(int argc, char** argv) {
     double demo_speed = 1.0;
     std::size_t demo_runs = 0;
     std::vector<std::string> demo_faults;
+    double demo_fast_rate = 0;
     std::string data_dir = "data/demo";
     auto* o_config = app.add_option("--config", config_file, "Rig config (TOML) to run");
     auto* o_check = app.add_option("--check-config", check_file, "Validate a config and exit");
@@ -157,6 +159,9 @@ int main(int argc, char** argv) {
     app.add_option("--demo-speed", demo_speed, "Demo: simulated seconds per wall second")->check(CLI::Range(0.1, 20.0));
     app.add_option("--demo-data", data_dir, "Demo: data folder")->capture_default_str();
     app.add_option("--demo-fault", demo_faults, "Demo: a fault for the simulator to inject, KIND@START[+DURATION][:PARAM]");
+    app.add_option("--demo-flat-out", demo_fast_rate,
+                   "Demo (benchmarks): the simulator streams as fast as read, at this sample rate in Hz")
+        ->check(CLI::Range(1.0, 1e6));
     app.add_option("--demo-runs", demo_runs, "Demo: stop after this many specimens (0: play all, then keep serving)");
     o_config->excludes(o_check)->excludes(o_demo);
     o_check->excludes(o_demo);
@@ -192,7 +197,7 @@ int main(int argc, char** argv) {
     }
     try {
         const auto self = std::filesystem::canonical("/proc/self/exe");
-        return run_daemon(std::move(config), demo, demo_speed, demo_runs, demo_faults, self);
+        return run_daemon(std::move(config), demo, demo_speed, demo_runs, demo_faults, demo_fast_rate, self);
     } catch (const std::exception& e) {
         std::cerr << "tensiled: " << e.what() << '\n';
         return 1;
