@@ -23,6 +23,9 @@ stored=$(sqlite3 "$db" "SELECT sum(frame_count) FROM frame_chunks;")
 dropped=$(grep -c 'queue_full' "$work/log" || true)
 ours=$(sqlite3 "$db" "SELECT sum(length(data)) FROM frame_chunks;")
 
+# Event reaction time at the demo's real-time pace (20x), the way a rig runs.
+build/bin/tensiled --demo --demo-speed 20 --demo-runs 2 --demo-data "$work/l" 2>&1 | grep -o 'event reaction time.*' || true
+
 # The same test as a plain CSV table, imported by sqlite3.
 build/bin/tensile-sim --material harbourline-s355-lot7 --format table --fast --rate "$rate" --out "$work/run.csv"
 sqlite3 "$work/plain.db" ".mode csv" ".import $work/run.csv frames"

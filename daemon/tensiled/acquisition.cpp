@@ -46,7 +46,7 @@ void Acquisition::on_bytes(std::size_t i, std::span<const std::byte> bytes, doub
     pipeline_.feed(i, bytes, arrival_s, ready_);
     if (!ready_.empty()) {
         frames_out_ += ready_.size();
-        if (handlers_.on_frames) handlers_.on_frames(ready_);
+        if (handlers_.on_frames) handlers_.on_frames(ready_, arrival_s);
     }
 }
 

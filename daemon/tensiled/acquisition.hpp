@@ -24,7 +24,8 @@
 namespace tensile {
 
 struct AcquisitionHandlers {
-    std::function<void(const std::vector<drivers::AlignedFrame>& frames)> on_frames;
+    // `arrival_s`: host time the bytes that completed these frames were read.
+    std::function<void(const std::vector<drivers::AlignedFrame>& frames, double arrival_s)> on_frames;
     std::function<void(const std::string& source, std::span<const std::byte> bytes, double arrival_s)> on_raw;
     std::function<void(const drivers::GapEvent& gap)> on_gap;
     std::function<void(const std::string& source, drivers::SourceState state)> on_state;

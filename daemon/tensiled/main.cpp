@@ -138,6 +138,9 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     }
     io.run();
     keeper.stop();
+    const auto [p50, p99] = rig.event_latency_p50_p99();
+    log->info("event reaction time (bytes read to events out and requests handed to the outputs): p50 {:.3f} ms, "
+              "p99 {:.3f} ms", 1000 * p50, 1000 * p99);
     log->info("tensiled stopped");
     return 0;
 }

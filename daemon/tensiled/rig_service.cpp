@@ -1,6 +1,7 @@
 // One rig at work; see rig_service.hpp.
 #include "rig_service.hpp"
 
+#include <algorithm>
 #include <chrono>
 
 #include "drivers/serial_source.hpp"
@@ -17,7 +18,7 @@ RigService::RigService(boost::asio::io_context& io, DaemonConfig config, std::sh
       log_(std::move(log)),
       acquisition_(io, config_,
                    AcquisitionHandlers{
-                       [this](const auto& frames) { on_frames(frames); },
+                       [this](const auto& frames, double arrival_s) { on_frames(frames, arrival_s); },
                        [this](const std::string& source, std::span<const std::byte> bytes, double arrival) {
                            if (observers_.on_raw) observers_.on_raw(source, bytes, arrival);
                        },
@@ -109,7 +110,7 @@ Result<bool> RigService::confirm_handover() {
     return r;
 }
 
-void RigService::on_frames(const std::vector<drivers::AlignedFrame>& frames) {
+void RigService::on_frames(const std::vector<drivers::AlignedFrame>& frames, double arrival_s) {
     last_frame_ = frames.back();
     if (!live(controller_.state())) {
         if (observers_.on_idle_frame)
@@ -118,7 +119,22 @@ void RigService::on_frames(const std::vector<drivers::AlignedFrame>& frames) {
     }
     step_.clear();
     for (const auto& f : frames) controller_.on_frame(f.frame, step_);
+    const bool made_events = !step_.events.empty();
     after_step();
+    if (made_events) {
+        constexpr std::size_t kept = 4096;
+        const double latency = now_s() - arrival_s;
+        if (latencies_.size() < kept) latencies_.push_back(latency);
+        else latencies_[latency_next_++ % kept] = latency;
+    }
+}
+
+std::pair<double, double> RigService::event_latency_p50_p99() const {
+    if (latencies_.empty()) return {0, 0};
+    auto sorted = latencies_;
+    std::sort(sorted.begin(), sorted.end());
+    const auto at = [&](double q) { return sorted[std::min(sorted.size() - 1, static_cast<std::size_t>(q * sorted.size()))]; };
+    return {at(0.5), at(0.99)};
 }
 
 // Hands the step to observers, carries out requests, and closes the run when

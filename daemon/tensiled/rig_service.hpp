@@ -65,6 +65,10 @@ public:
     [[nodiscard]] const DaemonConfig& config() const { return config_; }
     [[nodiscard]] const Acquisition& acquisition() const { return acquisition_; }
     [[nodiscard]] const drivers::AlignedFrame& last_frame() const { return last_frame_; }
+    // Reaction time: from reading the bytes that complete a frame to its events
+    // emitted and their requests handed to the outputs (host clock, seconds).
+    // The last few thousand steps that made events; p50/p99 over them.
+    [[nodiscard]] std::pair<double, double> event_latency_p50_p99() const;
     // SIGHUP: takes the profiles of a re-read config. Refused while a run is
     // armed or running; sources and outputs need a restart (said in the result).
     Result<bool> reload(const DaemonConfig& fresh);
@@ -72,7 +76,7 @@ public:
     void send_command(const std::string& command);
 
 private:
-    void on_frames(const std::vector<drivers::AlignedFrame>& frames);
+    void on_frames(const std::vector<drivers::AlignedFrame>& frames, double arrival_s);
     void after_step();
     void carry_out(const Request& request);
     void schedule_tick();
@@ -92,6 +96,8 @@ private:
     boost::asio::steady_timer tick_, counters_;
     drivers::AlignedFrame last_frame_{};
     int lost_sources_ = 0;
+    std::vector<double> latencies_;   // bounded ring of event-step latencies
+    std::size_t latency_next_ = 0;
 };
 
 }  // namespace tensile
