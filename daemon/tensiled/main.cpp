@@ -22,6 +22,7 @@
 #include <spdlog/spdlog.h>
 
 #include "config/daemon_config.hpp"
+#include "daemon/monitor/monitor_server.hpp"
 #include "demo_rig.hpp"
 #include "rig_service.hpp"
 #include "run_keeper.hpp"
@@ -69,24 +70,34 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         demo_rig = std::make_unique<tensile::DemoRig>(io, rig, sim, port, std::move(queue), demo_speed, demo_runs,
                                                       config.data_dir, log);
     }
+    // Monitor (daemon/monitor): HTTP API, live feed, /metrics and the page.
+    tensile::monitor::MonitorServer monitor(io, config.monitor, config.data_dir, rig, keeper, log);
+    auto& feed = monitor.feed();
     tensile::RigObservers observers;
     observers.on_armed = [&](const tensile::RunInfo& run) {
         keeper.armed(run, config.profiles.at(run.profile), config.text);
+        feed.armed(run, keeper.current_run());
     };
-    observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) { keeper.step(run, out); };
+    observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) {
+        keeper.step(run, out);
+        feed.step(run, out);
+    };
     observers.on_raw = [&](const std::string& source, std::span<const std::byte> bytes, double arrival_s) {
         if (tensile::live(rig.state())) keeper.raw(source, bytes, arrival_s);
     };
     observers.on_alarm = [&](const std::string& kind, const std::string& message) {
         log->warn("alarm {}: {}", kind, message);
         keeper.alarm(kind, message);
+        feed.alarm(kind, message);
         if (kind == "extensometer_alert" && demo_rig) demo_rig->on_extensometer_alert();
     };
     observers.on_run_end = [&](const tensile::RunInfo& run, tensile::RunState end, const tensile::Results& results) {
         log->info("run {} ended: {}", run.number, tensile::name_of(end));
+        feed.run_end(run, end, results);  // before the keeper forgets the stored id
         keeper.ended(run, end, results);
         if (demo_rig) demo_rig->on_run_end(run, end, results);
     };
+    observers.on_idle_frame = [&](const tensile::drivers::AlignedFrame& f) { feed.idle_frame(f); };
     rig.observe(observers);
 
     boost::asio::signal_set signals(io, SIGINT, SIGTERM);
@@ -95,9 +106,13 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         log->info("signal {}: finishing and exiting", signo);
         if (tensile::live(rig.state())) (void)rig.abort_run("daemon stopped by signal");
         rig.stop();
+        monitor.stop();
         io.stop();
     });
     rig.start();
+    monitor.start();
+    // Tests and scripts read the address from this line.
+    std::cout << "monitor http://" << config.monitor.listen << ':' << monitor.port() << "/\n" << std::flush;
     if (demo_rig) {
         std::cout << "demo: the simulator plays Harbourline Metals specimens on 127.0.0.1:"
                   << config.drivers.sources.front().tcp.port << "; results print as each run ends. Ctrl-C to stop.\n"
@@ -105,6 +120,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         demo_rig->start();
     }
     io.run();
+    monitor.stop();
     keeper.stop();
     log->info("tensiled stopped");
     return 0;
@@ -119,12 +135,15 @@ int main(int argc, char** argv) {
     double demo_speed = 1.0;
     std::size_t demo_runs = 0;
     std::string data_dir = "data/demo";
+    int monitor_port = -1;  // -1: the config's (demo: 8470)
     auto* o_config = app.add_option("--config", config_file, "Rig config (TOML) to run");
     auto* o_check = app.add_option("--check-config", check_file, "Validate a config and exit");
     auto* o_demo = app.add_flag("--demo", demo, "Run the embedded demo rig (a simulator child process)");
     app.add_option("--demo-speed", demo_speed, "Demo: simulated seconds per wall second")->check(CLI::Range(0.1, 20.0));
     app.add_option("--demo-data", data_dir, "Demo: data folder")->capture_default_str();
     app.add_option("--demo-runs", demo_runs, "Demo: stop after this many specimens (0: play all, then keep serving)");
+    app.add_option("--monitor-port", monitor_port, "Monitor port instead of the config's (0: any free port)")
+        ->check(CLI::Range(0, 65535));
     o_config->excludes(o_check)->excludes(o_demo);
     o_check->excludes(o_demo);
     app.set_version_flag("--version", std::string("tensiled ") + TENSILED_VERSION);
@@ -142,6 +161,8 @@ int main(int argc, char** argv) {
         if (demo) {
             const auto dir = std::filesystem::absolute(data_dir);
             config = tensile::load_daemon_config_text(tensile::demo_config_text(dir, free_port(), 8470), dir);
+            // The demo keeps its monitor token beside its database (created owner-only).
+            config.monitor.token_file = dir / "monitor.token";
         } else {
             config = tensile::load_daemon_config(check_file.empty() ? config_file : check_file);
         }
@@ -152,6 +173,7 @@ int main(int argc, char** argv) {
         std::cerr << "tensiled: " << e.what() << '\n';
         return 2;
     }
+    if (monitor_port >= 0) config.monitor.port = static_cast<std::uint16_t>(monitor_port);
     if (!check_file.empty()) {
         std::cout << check_file << ": good (" << config.drivers.sources.size() << " sources, " << config.profiles.size()
                   << " profiles)\n";
