@@ -1,9 +1,10 @@
 // tensilectl: the command-line side of tensiled. Offline tools work without a
-// daemon; commands that talk to a running daemon come with the monitor work.
+// daemon; the daemon commands talk to a running tensiled (daemon_commands.hpp).
 #include <CLI/CLI.hpp>
 #include <iostream>
 
 #include "analyze_command.hpp"
+#include "daemon_commands.hpp"
 
 int main(int argc, char** argv) {
     CLI::App app{"tensilectl: offline analysis and control for tensiled"};
@@ -11,6 +12,8 @@ int main(int argc, char** argv) {
     app.set_version_flag("--version", std::string("tensilectl ") + TENSILED_VERSION);
     int exit_code = 0;
     tensile::ctl::add_analyze_command(app, exit_code);
+    tensile::ctl::add_daemon_commands(app, exit_code);
+    tensile::ctl::add_watch_command(app, exit_code);
     try {
         app.parse(argc, argv);
     } catch (const CLI::ParseError& e) {
