@@ -29,8 +29,14 @@ class Access {
 public:
     // `listen`: the address the server binds to. Throws std::runtime_error.
     Access(const std::string& listen, const std::filesystem::path& token_file);
-    // For tests: a token given directly (empty: none).
-    Access(bool loopback, std::string token) : loopback_(loopback), token_(std::move(token)) {}
+    // A token given directly (empty: none), for tests. A named factory, not a
+    // constructor: Access("0.0.0.0", {}) must never pick it (const char* → bool).
+    static Access with_token(bool loopback, std::string token) {
+        Access a;
+        a.loopback_ = loopback;
+        a.token_ = std::move(token);
+        return a;
+    }
 
     // `authorization`: the request's Authorization header (may be empty).
     [[nodiscard]] std::optional<Refusal> check(std::string_view authorization, bool mutation) const;
@@ -43,6 +49,7 @@ public:
     [[nodiscard]] const std::filesystem::path& token_file() const { return file_; }
 
 private:
+    Access() = default;
     bool loopback_ = true;
     std::string token_;
     std::filesystem::path file_;
