@@ -82,6 +82,7 @@ function onMessage(m) {
       const sel = $('profiles');
       sel.innerHTML = '';
       for (const p of s.profiles) sel.add(new Option(p, p, p === s.default_profile, p === s.default_profile));
+      if (s.run && s.run.id) backfill(s.run.id);
       break;
     }
     case 'state':
@@ -112,6 +113,15 @@ function onMessage(m) {
       break;
     }
   }
+}
+
+// A page opened mid-run draws what was stored so far, then follows live.
+async function backfill(id) {
+  try {
+    const [run, frames] = await Promise.all([call('GET', `/api/v1/runs/${id}`), call('GET', `/api/v1/runs/${id}/frames?points=500`)]);
+    live.clear();
+    live.backfill(frames, run.events);
+  } catch (e) { /* the live feed still works */ }
 }
 
 function connect() {

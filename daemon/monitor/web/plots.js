@@ -54,14 +54,21 @@ const Plots = (() => {
         this.redrawSs();
       }
       if (this.ft && p.time_s != null && p.force_N != null) {
-        const d = this.ft.data.datasets[0].data;
-        // The window's lowest and highest force keep short peaks visible.
-        if (p.force_min_N != null && p.force_max_N != null && p.frames > 1) {
-          d.push({ x: p.time_s, y: p.force_min_N / 1000 }, { x: p.time_s, y: p.force_max_N / 1000 });
-        }
-        d.push({ x: p.time_s, y: p.force_N / 1000 });
+        // The newest frame of each 20 ms; the window's min/max stay in the message.
+        this.ft.data.datasets[0].data.push({ x: p.time_s, y: p.force_N / 1000 });
         this.redrawFt();
       }
+    }
+    // Fills in what a run recorded before this page connected (stored frames).
+    backfill(frames, events) {
+      const b = frames.buckets;
+      for (let i = 0; i < b.from_s.length; i++) {
+        if (this.ss && b.strain_max_pct[i] != null) this.ss.data.datasets[0].data.push({ x: b.strain_max_pct[i], y: b.stress_max_MPa[i] });
+        if (this.ft && b.force_max_N[i] != null) this.ft.data.datasets[0].data.push({ x: (b.from_s[i] + b.to_s[i]) / 2, y: b.force_max_N[i] / 1000 });
+      }
+      for (const e of events) this.event(e);
+      this.redrawSs();
+      this.redrawFt();
     }
     event(e) {
       if (this.ss && e.strain_pct != null) {
