@@ -17,6 +17,8 @@
 #include <array>
 #include <cstdint>
 #include <deque>
+#include <optional>
+#include <string_view>
 #include <vector>
 
 #include "engine/frame.hpp"
@@ -25,6 +27,15 @@ namespace tensile::drivers {
 
 enum class Role : std::uint8_t { force = 0, extension = 1, crosshead = 2 };
 inline constexpr std::size_t role_count = 3;
+
+// The Frame field a channel name feeds (the names of wire-formats.md); none for
+// other channels (width, temperature...), which stay outside the Frame.
+inline std::optional<Role> role_of(std::string_view channel_name) {
+    if (channel_name == "force") return Role::force;
+    if (channel_name == "extension") return Role::extension;
+    if (channel_name == "crosshead") return Role::crosshead;
+    return std::nullopt;
+}
 
 struct AlignerConfig {
     Role master = Role::force;

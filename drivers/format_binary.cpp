@@ -43,6 +43,7 @@ public:
     }
 
     void break_stream() override {
+        // What is left always starts with a sync byte: a frame cut short.
         if (!buf_.empty()) discard(buf_.size(), true);
         buf_.clear();
         have_seq_ = false;  // the device may have restarted; do not count a seq jump as loss
@@ -57,12 +58,19 @@ private:
     void scan(std::vector<Sample>& out) {
         std::size_t pos = 0;
         const std::size_t size = buf_.size();
-        while (size - pos >= 2) {
-            if (buf_[pos] != sync0 || buf_[pos + 1] != sync1) {
-                // Skip to the next candidate sync byte in one step.
-                const void* next = std::memchr(buf_.data() + pos + 1, sync0, size - pos - 1);
+        // Each decision is taken as soon as the bytes it needs are present and
+        // never depends on how many more happen to be buffered: that is what
+        // makes any split of the input give the same result.
+        while (pos < size) {
+            if (buf_[pos] != sync0) {
+                const void* next = std::memchr(buf_.data() + pos, sync0, size - pos);
                 const std::size_t at = next ? static_cast<std::size_t>(static_cast<const std::uint8_t*>(next) - buf_.data()) : size;
                 drop(pos, at - pos);
+                continue;
+            }
+            if (size - pos < 2) break;
+            if (buf_[pos + 1] != sync1) {
+                drop(pos, 1);
                 continue;
             }
             if (size - pos < 3) break;

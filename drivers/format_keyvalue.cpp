@@ -125,7 +125,7 @@ private:
             kind = stamp_is_counter ? Stamp::counter : Stamp::device_us;
             stamp = *v;
         }
-        std::array<Reading, max_channels> readings;
+        auto& readings = readings_;
         bool any = false;
         for (std::size_t c = 0; c < config_.channels.size(); ++c) {
             if (!seen[c]) continue;
@@ -141,6 +141,7 @@ private:
     }
 
     LineAssembler lines_;
+    std::array<Reading, max_channels> readings_;
 };
 
 }  // namespace

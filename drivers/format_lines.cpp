@@ -90,13 +90,17 @@ private:
             return n;
         }
         std::size_t start = 0;
-        for (;;) {
-            const std::size_t at = line.find(sep, start);
+        const char* d = line.data();
+        const std::size_t len = line.size();
+        for (std::size_t i = 0; i < len; ++i) {
+            if (d[i] != sep) continue;
             if (n == max_fields) return max_fields + 1;
-            f[n++] = line.substr(start, at == std::string_view::npos ? std::string_view::npos : at - start);
-            if (at == std::string_view::npos) return n;
-            start = at + 1;
+            f[n++] = std::string_view(d + start, i - start);
+            start = i + 1;
         }
+        if (n == max_fields) return max_fields + 1;
+        f[n++] = std::string_view(d + start, len - start);
+        return n;
     }
 
     void on_line(std::string_view line, std::vector<Sample>& out) {
@@ -104,7 +108,7 @@ private:
             deliver_message(line);
             return;
         }
-        std::array<std::string_view, max_fields> f;
+        auto& f = fields_;
         if (split(line, f) != field_count_) return discard(line.size(), true);
 
         Stamp kind = Stamp::none;
@@ -115,7 +119,7 @@ private:
             kind = config_.time_field ? Stamp::device_us : Stamp::counter;
             stamp = *v;
         }
-        std::array<Reading, max_fields> readings;
+        auto& readings = readings_;  // members: no per-line construction of 64 slots
         const std::size_t nch = config_.channels.size();
         for (std::size_t c = 0; c < nch; ++c) {
             readings[c] = read_value(f[static_cast<std::size_t>(config_.channels[c].field)], config_.channels[c].unit);
@@ -127,6 +131,8 @@ private:
 
     LineAssembler lines_;
     std::size_t field_count_ = 0;
+    std::array<std::string_view, max_fields> fields_;
+    std::array<Reading, max_fields> readings_;
 };
 
 }  // namespace

@@ -191,6 +191,8 @@ std::error_code SerialHandle::open_termios(const std::string& path, const Serial
     if (s.flow == FlowControl::rtscts) t.c_cflag |= CRTSCTS;
     t.c_iflag &= ~static_cast<tcflag_t>(IXON | IXOFF | IXANY);
     if (s.flow == FlowControl::xonxoff) t.c_iflag |= IXON | IXOFF;
+    // On a pty the kernel keeps CS8 and no parity whatever we ask; harmless,
+    // since no real line exists. On a real tty the same code sets them.
     t.c_cc[VMIN] = 1;
     t.c_cc[VTIME] = 0;
     if (::tcsetattr(fd, TCSANOW, &t) != 0) {

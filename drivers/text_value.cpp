@@ -13,19 +13,11 @@ std::string_view trim(std::string_view s) {
     return s;
 }
 
-namespace {
-bool is_nan_word(std::string_view s) {
-    if (!s.empty() && (s.front() == '-' || s.front() == '+')) s.remove_prefix(1);
-    return s.size() == 3 && (s[0] == 'n' || s[0] == 'N') && (s[1] == 'a' || s[1] == 'A') &&
-           (s[2] == 'n' || s[2] == 'N');
-}
-}  // namespace
-
 Reading read_value(std::string_view field, const ChannelUnit& unit) {
     field = trim(field);
-    if (field == "OVER" || field == "----") return {ReadingKind::overload, 0.0};
-    if (is_nan_word(field)) return {ReadingKind::nan, 0.0};
     if (field.empty()) return {};
+    if (field == "OVER" || field == "----") return {ReadingKind::overload, 0.0};
+    // nan, NaN, -nan: std::from_chars reads them (case-insensitively) as NaN, handled below.
 
     const char* first = field.data();
     const char* last = first + field.size();
@@ -39,6 +31,9 @@ Reading read_value(std::string_view field, const ChannelUnit& unit) {
     const std::string_view suffix = trim(std::string_view(end, static_cast<std::size_t>(last - end)));
     double factor = base_per_unit(unit);
     if (!suffix.empty()) {
+        // Fast paths for the base units, by far the most common suffixes.
+        if (suffix.size() == 1 && suffix[0] == 'N' && std::holds_alternative<ForceUnit>(unit)) return {ReadingKind::number, number};
+        if (suffix == "mm" && std::holds_alternative<LengthUnit>(unit)) return {ReadingKind::number, number};
         if (std::holds_alternative<ForceUnit>(unit)) {
             const auto u = parse_force_unit(suffix);
             if (!u) return {};

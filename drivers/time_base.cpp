@@ -3,6 +3,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <vector>
 
 namespace tensile::drivers {
 
@@ -43,7 +44,7 @@ double TimeBase::device_seconds(const Sample& s) {
 void TimeBase::observe(double d, double offset) {
     const auto index = static_cast<std::int64_t>(std::floor(d / cfg_.bucket_s));
     if (buckets_.empty() || index > buckets_.back().index) {
-        buckets_.push_back({index, d, offset});
+        buckets_.push_back({index, d, offset, buckets_.empty()});
         while (buckets_.size() > cfg_.buckets + 1) buckets_.pop_front();
         refit();  // the previous open bucket just closed
     } else if (offset < buckets_.back().offset) {
@@ -53,30 +54,32 @@ void TimeBase::observe(double d, double offset) {
 }
 
 void TimeBase::refit() {
-    const std::size_t closed = buckets_.size() - 1;
-    if (closed < 3) {
+    // Closed buckets only; the first bucket after a (re)start covers part of a
+    // bucket and mostly readings that waited in the same read as later ones, so
+    // its minimum is too high: leave it out.
+    std::vector<const Bucket*> pts;
+    for (std::size_t i = 0; i + 1 < buckets_.size(); ++i)
+        if (!buckets_[i].partial) pts.push_back(&buckets_[i]);
+    if (pts.size() < 3) {
         have_fit_ = false;
         return;
     }
-    double sd = 0, so = 0;
-    for (std::size_t i = 0; i < closed; ++i) {
-        sd += buckets_[i].d;
-        so += buckets_[i].offset;
+    // Theil–Sen slope (median of pairwise slopes): one bucket whose minimum
+    // was spoiled by a long delay cannot tilt the line.
+    std::vector<double> slopes;
+    slopes.reserve(pts.size() * (pts.size() - 1) / 2);
+    for (std::size_t i = 0; i < pts.size(); ++i)
+        for (std::size_t j = i + 1; j < pts.size(); ++j)
+            if (pts[j]->d != pts[i]->d) slopes.push_back((pts[j]->offset - pts[i]->offset) / (pts[j]->d - pts[i]->d));
+    if (slopes.empty()) {
+        have_fit_ = false;
+        return;
     }
-    const double md = sd / static_cast<double>(closed), mo = so / static_cast<double>(closed);
-    double sdd = 0, sdo = 0;
-    for (std::size_t i = 0; i < closed; ++i) {
-        const double x = buckets_[i].d - md;
-        sdd += x * x;
-        sdo += x * (buckets_[i].offset - mo);
-    }
-    fit_b_ = sdd > 0 ? sdo / sdd : 0.0;
-    fit_a_ = mo - fit_b_ * md;
-    // Shift down so the line is a lower bound of every closed minimum.
-    double worst = 0;
-    for (std::size_t i = 0; i < closed; ++i)
-        worst = std::max(worst, fit_a_ + fit_b_ * buckets_[i].d - buckets_[i].offset);
-    fit_a_ -= worst;
+    std::nth_element(slopes.begin(), slopes.begin() + static_cast<std::ptrdiff_t>(slopes.size() / 2), slopes.end());
+    fit_b_ = slopes[slopes.size() / 2];
+    // Through the lowest minimum: delays only ever add, so the lowest is the truest.
+    fit_a_ = pts.front()->offset - fit_b_ * pts.front()->d;
+    for (const Bucket* b : pts) fit_a_ = std::min(fit_a_, b->offset - fit_b_ * b->d);
     have_fit_ = true;
     stats_.drift = fit_b_;
 }

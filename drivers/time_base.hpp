@@ -53,6 +53,7 @@ private:
         std::int64_t index = 0;
         double d = 0.0;  // device time at the minimum
         double offset = 0.0;
+        bool partial = false;  // first bucket after a (re)start
     };
 
     double device_seconds(const Sample& s);

@@ -49,6 +49,7 @@ Result<bool> RunController::arm(SpecimenGeometry geometry, RunSettings settings,
     armed_at_ = now;
     tare_seen_ = 0;
     tare_sum_[0] = tare_sum_[1] = tare_sum_[2] = 0;
+    tare_count_[0] = tare_count_[1] = tare_count_[2] = 0;
     handover_ = settings_.handover.when == HandoverRule::When::never ? HandoverState::done : HandoverState::not_due;
     held_ = relay_up_ = saw_upper_yield_ = false;
     fractured_at_.reset();
@@ -91,14 +92,20 @@ void RunController::device_back(double) { lost_since_.reset(); }
 
 void RunController::on_frame(const Frame& raw, RunOutput& out) {
     if (!live(state_)) return;
+    // Frames stamped before arming belong to whatever came before (a previous
+    // specimen's tail, a buffer that arrived late): never part of this run.
+    if (!(raw.time_s >= armed_at_)) return;
     if (state_ == RunState::armed && tare_seen_ < settings_.tare_frames) {
-        // Tare: the mean of the first frames after arming, per channel (an
-        // absent channel stays untared and absent).
+        // Tare: the mean of the first frames after arming, per channel, over
+        // the frames where that channel had a value (absent stays absent).
         const double v[3] = {raw.force_N, raw.extension_mm, raw.crosshead_mm};
         for (int c = 0; c < 3; ++c)
-            if (std::isfinite(v[c])) tare_sum_[c] += v[c];
+            if (std::isfinite(v[c])) {
+                tare_sum_[c] += v[c];
+                ++tare_count_[c];
+            }
         if (++tare_seen_ == settings_.tare_frames)
-            for (int c = 0; c < 3; ++c) tare_[c] = tare_sum_[c] / settings_.tare_frames;
+            for (int c = 0; c < 3; ++c) tare_[c] = tare_count_[c] > 0 ? tare_sum_[c] / tare_count_[c] : 0.0;
         return;
     }
     Frame f;

@@ -100,6 +100,8 @@ public:
     [[nodiscard]] const Analyzer* analyzer() const { return analyzer_ ? &*analyzer_ : nullptr; }
     [[nodiscard]] std::optional<Results> results();
     [[nodiscard]] double armed_at() const { return armed_at_; }
+    // Offsets taken at arming (force N, extension mm, crosshead mm); valid once running.
+    [[nodiscard]] const double* tare() const { return tare_; }
 
 private:
     void go(RunState to, double now, std::string cause, RunOutput& out);
@@ -115,6 +117,7 @@ private:
     // Tare.
     int tare_seen_ = 0;
     double tare_sum_[3] = {0, 0, 0};
+    int tare_count_[3] = {0, 0, 0};
     double tare_[3] = {0, 0, 0};
     // Hand-over and the end.
     HandoverState handover_ = HandoverState::not_due;

@@ -5,6 +5,7 @@
 
 #include "analyze_command.hpp"
 #include "daemon_commands.hpp"
+#include "verify_command.hpp"
 
 int main(int argc, char** argv) {
     CLI::App app{"tensilectl: offline analysis and control for tensiled"};
@@ -12,6 +13,7 @@ int main(int argc, char** argv) {
     app.set_version_flag("--version", std::string("tensilectl ") + TENSILED_VERSION);
     int exit_code = 0;
     tensile::ctl::add_analyze_command(app, exit_code);
+    tensile::ctl::add_verify_command(app, exit_code);
     tensile::ctl::add_daemon_commands(app, exit_code);
     tensile::ctl::add_watch_command(app, exit_code);
     try {

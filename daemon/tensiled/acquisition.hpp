@@ -18,10 +18,8 @@
 #include <spdlog/spdlog.h>
 
 #include "config/daemon_config.hpp"
-#include "drivers/aligner.hpp"
 #include "drivers/byte_source.hpp"
-#include "drivers/parser.hpp"
-#include "drivers/time_base.hpp"
+#include "frame_pipeline.hpp"
 
 namespace tensile {
 
@@ -55,13 +53,12 @@ public:
     void log_counters() const;
 
 private:
-    struct Stream;
-    void on_bytes(Stream& s, std::span<const std::byte> bytes, double arrival_s);
+    void on_bytes(std::size_t i, std::span<const std::byte> bytes, double arrival_s);
 
     AcquisitionHandlers handlers_;
     std::shared_ptr<spdlog::logger> log_;
-    std::vector<std::unique_ptr<Stream>> streams_;
-    drivers::Aligner aligner_;
+    FramePipeline pipeline_;
+    std::vector<std::shared_ptr<drivers::ByteSource>> sources_;  // same order as the pipeline's
     std::vector<drivers::AlignedFrame> ready_;
     std::uint64_t frames_out_ = 0;
 };

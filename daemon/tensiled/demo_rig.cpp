@@ -118,6 +118,10 @@ void DemoRig::spawn(const DemoSpecimen& s) {
     std::vector<std::string> args{simulator_.string(), "--material", s.material, "--tcp", endpoint, "--realtime",
                                   "--speed", speed, "--format", "lines", "--after-end", "2",
                                   "--truth", (data_dir_ / ("demo-truth-" + std::to_string(next_) + ".json")).string()};
+    for (const auto& f : faults_) {
+        args.push_back("--fault");
+        args.push_back(f);
+    }
     std::vector<char*> argv;
     for (auto& a : args) argv.push_back(a.data());
     argv.push_back(nullptr);

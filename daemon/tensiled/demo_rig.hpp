@@ -46,6 +46,8 @@ public:
     ~DemoRig();
 
     void start();
+    // Fault specs handed to every simulator run (`--fault SPEC`, see simulator/README.md).
+    void inject(std::vector<std::string> faults) { faults_ = std::move(faults); }
     // Hooks the service calls (wired by main).
     void on_extensometer_alert();
     void on_run_end(const RunInfo& run, RunState end, const Results& results);
@@ -65,6 +67,7 @@ private:
     std::size_t runs_;
     std::filesystem::path data_dir_;
     std::shared_ptr<spdlog::logger> log_;
+    std::vector<std::string> faults_;
     std::size_t next_ = 0;
     int child_ = -1;
     boost::asio::steady_timer operator_, pause_;

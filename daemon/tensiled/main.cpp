@@ -51,7 +51,8 @@ std::uint16_t free_port() {
 }
 
 int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::size_t demo_runs,
-               const std::filesystem::path& self) {
+               const std::vector<std::string>& demo_faults, const std::filesystem::path& self,
+               bool monitor_port_given) {
     auto log = make_logger(config.data_dir, config.log_level);
     log->info("tensiled {} starting; rig '{}', data in {}", TENSILED_VERSION, config.rig.name, config.data_dir.string());
     log->warn("tensiled is no interlock: the frame's own limits, guards and emergency stop stay in charge");
@@ -69,16 +70,31 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         });
         demo_rig = std::make_unique<tensile::DemoRig>(io, rig, sim, port, std::move(queue), demo_speed, demo_runs,
                                                       config.data_dir, log);
+        demo_rig->inject(demo_faults);
     }
     // Monitor (daemon/monitor): HTTP API, live feed, /metrics and the page.
-    tensile::monitor::MonitorServer monitor(io, config.monitor, config.data_dir, rig, keeper, log);
+    std::unique_ptr<tensile::monitor::MonitorServer> monitor_server;
+    try {
+        monitor_server = std::make_unique<tensile::monitor::MonitorServer>(io, config.monitor, config.data_dir, rig, keeper, log);
+    } catch (const std::runtime_error& e) {
+        // The demo's fixed port may be taken (another demo or a test beside it): any free port then.
+        if (!demo || monitor_port_given) throw;
+        log->warn("{}; the demo's monitor takes a free port instead", e.what());
+        auto any_port = config.monitor;
+        any_port.port = 0;
+        monitor_server = std::make_unique<tensile::monitor::MonitorServer>(io, any_port, config.data_dir, rig, keeper, log);
+    }
+    auto& monitor = *monitor_server;
     auto& feed = monitor.feed();
     tensile::RigObservers observers;
     observers.on_armed = [&](const tensile::RunInfo& run) {
         keeper.armed(run, config.profiles.at(run.profile), config.text);
+        keeper.sources_at_arming(rig.acquisition().status());
         feed.armed(run, keeper.current_run());
     };
     observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) {
+        for (const auto& t : out.transitions)
+            if (t.to == tensile::RunState::running) keeper.started(rig.controller());
         keeper.step(run, out);
         feed.step(run, out);
     };
@@ -93,6 +109,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     };
     observers.on_run_end = [&](const tensile::RunInfo& run, tensile::RunState end, const tensile::Results& results) {
         log->info("run {} ended: {}", run.number, tensile::name_of(end));
+        keeper.sources_at_end(rig.acquisition().status());
         feed.run_end(run, end, results);  // before the keeper forgets the stored id
         keeper.ended(run, end, results);
         if (demo_rig) demo_rig->on_run_end(run, end, results);
@@ -134,6 +151,7 @@ int main(int argc, char** argv) {
     bool demo = false;
     double demo_speed = 1.0;
     std::size_t demo_runs = 0;
+    std::vector<std::string> demo_faults;
     std::string data_dir = "data/demo";
     int monitor_port = -1;  // -1: the config's (demo: 8470)
     auto* o_config = app.add_option("--config", config_file, "Rig config (TOML) to run");
@@ -141,6 +159,7 @@ int main(int argc, char** argv) {
     auto* o_demo = app.add_flag("--demo", demo, "Run the embedded demo rig (a simulator child process)");
     app.add_option("--demo-speed", demo_speed, "Demo: simulated seconds per wall second")->check(CLI::Range(0.1, 20.0));
     app.add_option("--demo-data", data_dir, "Demo: data folder")->capture_default_str();
+    app.add_option("--demo-fault", demo_faults, "Demo: a fault for the simulator to inject, KIND@START[+DURATION][:PARAM]");
     app.add_option("--demo-runs", demo_runs, "Demo: stop after this many specimens (0: play all, then keep serving)");
     app.add_option("--monitor-port", monitor_port, "Monitor port instead of the config's (0: any free port)")
         ->check(CLI::Range(0, 65535));
@@ -181,7 +200,7 @@ int main(int argc, char** argv) {
     }
     try {
         const auto self = std::filesystem::canonical("/proc/self/exe");
-        return run_daemon(std::move(config), demo, demo_speed, demo_runs, self);
+        return run_daemon(std::move(config), demo, demo_speed, demo_runs, demo_faults, self, monitor_port >= 0);
     } catch (const std::exception& e) {
         std::cerr << "tensiled: " << e.what() << '\n';
         return 1;

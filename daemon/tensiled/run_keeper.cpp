@@ -86,6 +86,56 @@ void RunKeeper::step(const RunInfo&, const RunOutput& out) {
     }
 }
 
+void RunKeeper::started(const RunController& controller) {
+    if (!run_id_) return;
+    const double now = unix_now_s();
+    const double* tare = controller.tare();
+    const std::pair<const char*, double> values[] = {{"armed_at_s", controller.armed_at()},
+                                                      {"tare_force_N", tare[0]},
+                                                      {"tare_extension_mm", tare[1]},
+                                                      {"tare_crosshead_mm", tare[2]}};
+    for (const auto& [name, value] : values) recorder_->try_push_counter({run_id_, "run", name, value, now});
+}
+
+void RunKeeper::sources_at_end(const std::vector<Acquisition::SourceStatus>& status) {
+    if (!run_id_) return;
+    const double now = unix_now_s();
+    for (const auto& s : status) {
+        drivers::ParserCounters before;
+        for (const auto& a : at_arming_)
+            if (a.name == s.name) before = a.counters;
+        const auto& c = s.counters.stream;
+        const auto& b = before.stream;
+        std::uint64_t nan = 0, over = 0, range = 0, good = 0;
+        for (std::size_t ch = 0; ch < s.counters.channels.size(); ++ch) {
+            const auto& x = s.counters.channels[ch];
+            const drivers::ChannelCounters y = ch < before.channels.size() ? before.channels[ch] : drivers::ChannelCounters{};
+            good += x.good - y.good;
+            nan += x.nan - y.nan;
+            over += x.overload - y.overload;
+            range += x.out_of_range - y.out_of_range;
+        }
+        const std::pair<const char*, std::uint64_t> values[] = {
+            {"bytes", c.bytes - b.bytes},
+            {"records", c.records - b.records},
+            {"bad_records", c.bad_records - b.bad_records},
+            {"resync_bytes", c.resync_bytes - b.resync_bytes},
+            {"checksum_failures", c.checksum_failures - b.checksum_failures},
+            {"lost_frames", c.lost_frames - b.lost_frames},
+            {"good_samples", good},
+            {"nan", nan},
+            {"overload", over},
+            {"out_of_range", range}};
+        for (const auto& [name, value] : values)
+            recorder_->try_push_counter({run_id_, s.name, name, static_cast<double>(value), now});
+        log_->info("run id {} source {}: {} bytes, {} records, {} bad records, {} resync bytes, {} checksum failures, "
+                   "{} lost frames, {} nan, {} overload, {} out of range",
+                   *run_id_, s.name, c.bytes - b.bytes, c.records - b.records, c.bad_records - b.bad_records,
+                   c.resync_bytes - b.resync_bytes, c.checksum_failures - b.checksum_failures,
+                   c.lost_frames - b.lost_frames, nan, over, range);
+    }
+}
+
 void RunKeeper::raw(const std::string& source, std::span<const std::byte> bytes, double arrival_s) {
     if (!run_id_) return;
     recorder_->try_push_raw(source, std::string_view(reinterpret_cast<const char*>(bytes.data()), bytes.size()),

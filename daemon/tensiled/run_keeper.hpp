@@ -31,8 +31,15 @@ public:
 
     void armed(const RunInfo& run, const RunSettings& settings, const std::string& config_text);
     void step(const RunInfo& run, const RunOutput& out);
+    // The run started: its arming time (host monotonic) and tare, which
+    // verification needs to rebuild the frames from the raw bytes.
+    void started(const RunController& controller);
     void raw(const std::string& source, std::span<const std::byte> bytes, double arrival_s);
     void alarm(const std::string& kind, const std::string& message);
+    // Parser counters of each source: a snapshot at arming, and at the end the
+    // difference is filed with the run (bad bytes, lost frames... of this run).
+    void sources_at_arming(const std::vector<Acquisition::SourceStatus>& status) { at_arming_ = status; }
+    void sources_at_end(const std::vector<Acquisition::SourceStatus>& status);
     void ended(const RunInfo& run, RunState end, const Results& results);
     void stop();
 
@@ -48,6 +55,7 @@ private:
     std::optional<storage::Store> store_;
     std::unique_ptr<storage::Recorder> recorder_;
     std::optional<std::int64_t> run_id_;
+    std::vector<Acquisition::SourceStatus> at_arming_;
 };
 
 // Wall-clock seconds since 1970, for stored times.

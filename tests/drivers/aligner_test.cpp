@@ -138,6 +138,12 @@ TEST_CASE("aligner: a channel that stops is held, then stale", "[aligner]") {
     CHECK(gone > 890);
 }
 
+TEST_CASE("aligner: channel names map to frame fields", "[aligner]") {
+    CHECK(role_of("force") == Role::force);
+    CHECK(role_of("crosshead") == Role::crosshead);
+    CHECK_FALSE(role_of("width").has_value());
+}
+
 TEST_CASE("aligner: overload on either side gives NaN with the overload flag", "[aligner]") {
     Aligner al(AlignerConfig{.fitted = {true, true, false}});
     std::vector<AlignedFrame> out;

@@ -125,3 +125,15 @@ TEST_CASE("binary: break_stream drops a partial frame and forgets seq", "[binary
     CHECK(p->counters().stream.bad_records == 1);
     CHECK(p->counters().stream.resync_bytes == 10);
 }
+
+TEST_CASE("binary: trailing garbage counts the same however it is split", "[binary][corrupt]") {
+    // Found by the fuzz target: a lone non-sync byte at the end of a read was
+    // kept (and later counted as a torn frame) instead of being dropped at once.
+    const std::string input("\xA5\x0F\x0F\x01\x00\x40\xE8\x03\x00\x00\x02\x20\x41\x17\x00\x7C", 16);
+    FormatConfig cfg = bin_channels();
+    cfg.channels.pop_back();
+    check_split_invariance(cfg, input);
+    const Run r = run_whole(cfg, input, true);
+    CHECK(r.counters.stream.resync_bytes == 16);
+    CHECK(r.counters.stream.bad_records == 0);
+}

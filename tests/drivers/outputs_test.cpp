@@ -88,7 +88,7 @@ TEST_CASE("commands: ack, retry after a lost ack, refusal, timeout", "[outputs][
     CHECK(results[1].attempts == 1);
     CHECK(results[2].outcome == CommandOutcome::timed_out);
     CHECK(results[2].attempts == 2);
-    CHECK(results[2].done_s - results[2].first_sent_s == Approx(0.4).margin(0.1));
+    CHECK(results[2].done_s - results[2].first_sent_s == Approx(0.4).margin(0.15));  // two timeouts, not one or three
     CHECK(heard == std::vector<std::string>{"hold", "hold", "stop", "ping", "ping", "quit"});
     CHECK(samples.size() == 5);  // data lines kept flowing between the answers
     CHECK(parser->counters().stream.device_messages == 2);

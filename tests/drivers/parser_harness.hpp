@@ -56,17 +56,22 @@ inline bool same(const Run& a, const Run& b) {
     return true;
 }
 
-// Every two-piece split and the one-byte-at-a-time feed give what feeding whole gives.
+// Every two-piece split and the one-byte-at-a-time feed give what feeding
+// whole gives; checked both as is and after break_stream() at the end (which
+// counts what was left buffered, so the buffered state must agree too).
 inline void check_split_invariance(const FormatConfig& cfg, std::string_view stream) {
-    const Run whole = run_whole(cfg, stream);
-    for (std::size_t cut = 1; cut < stream.size(); ++cut) {
-        INFO("split at byte " << cut);
-        REQUIRE(same(run_pieces(cfg, stream, {cut}), whole));
+    for (const bool brk : {false, true}) {
+        INFO("break_stream at the end: " << brk);
+        const Run whole = run_whole(cfg, stream, brk);
+        for (std::size_t cut = 1; cut < stream.size(); ++cut) {
+            INFO("split at byte " << cut);
+            REQUIRE(same(run_pieces(cfg, stream, {cut}, brk), whole));
+        }
+        std::vector<std::size_t> every;
+        for (std::size_t i = 1; i < stream.size(); ++i) every.push_back(i);
+        INFO("one byte at a time");
+        REQUIRE(same(run_pieces(cfg, stream, every, brk), whole));
     }
-    std::vector<std::size_t> every;
-    for (std::size_t i = 1; i < stream.size(); ++i) every.push_back(i);
-    INFO("one byte at a time");
-    REQUIRE(same(run_pieces(cfg, stream, every), whole));
 }
 
 inline ChannelSpec channel(std::string name, ChannelUnit unit, int field = -1, std::string key = {}) {

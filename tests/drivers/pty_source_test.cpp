@@ -3,6 +3,7 @@
 #include <catch2/catch.hpp>
 
 #include <fcntl.h>
+#include <termios.h>
 #include <unistd.h>
 
 #include <cstdlib>
@@ -145,4 +146,77 @@ TEST_CASE("serial ports can be listed", "[serial]") {
     const auto ports = list_serial_ports(error);
     CHECK(error.empty());
     for (const auto& p : ports) CHECK_FALSE(p.path.empty());
+}
+
+TEST_CASE("serial handle: line settings reach the terminal", "[pty][serial]") {
+    Pty pty;
+    SerialSettings s;
+    s.baud = 9600;
+    s.data_bits = 7;
+    s.parity = Parity::odd;
+    s.stop_bits = 2;
+    s.flow = FlowControl::xonxoff;
+    SerialHandle h;
+    std::string detail;
+    REQUIRE_FALSE(h.open(pty.slave, s, detail));
+    REQUIRE(h.via_termios());
+    termios t{};
+    REQUIRE(::tcgetattr(h.fd(), &t) == 0);
+    CHECK(::cfgetispeed(&t) == B9600);
+    CHECK(::cfgetospeed(&t) == B9600);
+    // The Linux pty driver forces CS8 and clears PARENB whatever is asked
+    // (pty_set_termios in drivers/tty/pty.c), so those two cannot be seen here.
+    CHECK((t.c_cflag & CSIZE) == CS8);
+    CHECK((t.c_cflag & PARODD) != 0);
+    CHECK((t.c_cflag & CSTOPB) != 0);
+    CHECK((t.c_iflag & IXON) != 0);
+    CHECK((t.c_lflag & (ICANON | ECHO)) == 0);  // raw: no line editing, no echo back to the device
+
+    s.baud = 12345;  // not a termios rate
+    CHECK(h.open(pty.slave, s, detail) == std::errc::invalid_argument);
+    CHECK(detail.find("12345") != std::string::npos);
+}
+
+TEST_CASE("pty source: a virtual port that goes away and comes back is reopened, one gap", "[pty][serial][source]") {
+    // socat-style: the configured path is a link that is re-pointed at a new pty.
+    const std::string link = "/tmp/tensiled-drv-vport-" + std::to_string(::getpid());
+    auto first = std::make_unique<Pty>();
+    ::unlink(link.c_str());
+    REQUIRE(::symlink(first->slave.c_str(), link.c_str()) == 0);
+
+    boost::asio::io_context io;
+    SerialSourceConfig cfg;
+    cfg.name = "vport";
+    cfg.path = link;
+    cfg.backoff = {0.05, 0.5, 0.2};
+    auto src = SerialSource::create(io, cfg);
+    const auto parser = builtin_formats().make(two_channels());
+    std::vector<Sample> samples;
+    std::vector<GapEvent> gaps;
+    src->start({[&](std::span<const std::byte> b, double) { parser->feed(b, samples); },
+                [&](SourceState s) {
+                    if (s != SourceState::connected) parser->break_stream();
+                },
+                [&](const GapEvent& g) { gaps.push_back(g); }});
+    REQUIRE(src->state() == SourceState::connected);
+    first->write("1000,1 N,0.1 mm\n2000,2 N,0.2");  // the second line is torn by the loss
+    REQUIRE(run_until(io, [&] { return samples.size() == 2; }));
+    first->close();
+    REQUIRE(run_until(io, [&] { return gaps.size() == 1; }));
+
+    Pty second;
+    ::unlink(link.c_str());
+    REQUIRE(::symlink(second.slave.c_str(), link.c_str()) == 0);
+    const double back_at = host_now_s();
+    REQUIRE(run_until(io, [&] { return src->state() == SourceState::connected; }, 3000));
+    second.write("3000,3 N,0.3 mm\n");
+    REQUIRE(run_until(io, [&] { return samples.size() == 4; }));
+    REQUIRE(gaps.size() == 2);
+    CHECK(gaps[1].end_s - back_at < 2.0);  // issue 4: within 2 s of the device coming back
+    CHECK(samples[2].value == 3.0);
+    CHECK(parser->counters().stream.bad_records == 1);  // the torn "2000,2 N,0.2"
+    src->stop();
+    io.restart();
+    io.run_for(std::chrono::milliseconds(10));
+    ::unlink(link.c_str());
 }

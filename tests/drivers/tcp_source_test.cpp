@@ -11,6 +11,10 @@
 #include "drivers/parser_registry.hpp"
 #include "drivers/tcp_source.hpp"
 
+#include <sstream>
+
+#include <spdlog/sinks/ostream_sink.h>
+
 using namespace tensile::drivers;
 namespace asio = boost::asio;
 using asio::ip::tcp;
@@ -120,4 +124,75 @@ TEST_CASE("tcp source: a refused peer leaves it waiting, retrying quietly", "[tc
     // One line per state change, not per attempt; never connected, so no gap.
     CHECK(states == std::vector<SourceState>{SourceState::connecting, SourceState::waiting, SourceState::stopped});
     CHECK(gaps == 0);
+}
+
+TEST_CASE("tcp source: connect timeout against a peer whose accept queue is full", "[tcp][source]") {
+    // A listener with backlog 0 and one unaccepted connection queued drops further
+    // SYNs (Linux, default tcp_abort_on_overflow = 0), so a connect can only time out.
+    asio::io_context sio;
+    tcp::acceptor acc(sio);
+    const tcp::endpoint ep(asio::ip::make_address("127.0.0.1"), 0);
+    acc.open(ep.protocol());
+    acc.bind(ep);
+    acc.listen(0);
+    tcp::socket filler(sio);
+    filler.connect(acc.local_endpoint());
+
+    std::ostringstream log_text;
+    auto sink = std::make_shared<spdlog::sinks::ostream_sink_mt>(log_text);
+    auto log = std::make_shared<spdlog::logger>("test", sink);
+    log->set_level(spdlog::level::debug);
+
+    asio::io_context io;
+    TcpSourceConfig cfg;
+    cfg.name = "stuck";
+    cfg.host = "127.0.0.1";
+    cfg.port = acc.local_endpoint().port();
+    cfg.connect_timeout_s = 0.15;
+    cfg.backoff = {0.05, 0.05, 0.0};
+    auto src = TcpSource::create(io, cfg, log);
+    std::vector<SourceState> states;
+    src->start({nullptr, [&](SourceState s) { states.push_back(s); }, nullptr});
+    io.run_for(std::chrono::milliseconds(700));
+    src->stop();
+    io.run_for(std::chrono::milliseconds(20));
+    CHECK(states == std::vector<SourceState>{SourceState::connecting, SourceState::waiting, SourceState::stopped});
+    const std::string text = log_text.str();
+    CHECK(text.find("waiting to retry (connect timed out)") != std::string::npos);
+    // Later attempts are quiet (debug) lines, counted: at 0.15 s + 0.05 s each, two or three more fit.
+    CHECK(text.find("attempt 2 failed: connect timed out") != std::string::npos);
+}
+
+TEST_CASE("tcp source: a silent peer is dropped after the silence timeout", "[tcp][source]") {
+    asio::io_context sio;
+    tcp::acceptor acc(sio, tcp::endpoint(asio::ip::make_address("127.0.0.1"), 0));
+    std::thread server([&] {
+        auto first = acc.accept();   // accepted, then never written to
+        auto second = acc.accept();  // the reconnection after the timeout
+        asio::write(second, asio::buffer(std::string("1,2 N\n")));
+        std::this_thread::sleep_for(std::chrono::milliseconds(300));
+    });
+    asio::io_context io;
+    TcpSourceConfig cfg;
+    cfg.name = "quiet";
+    cfg.host = "127.0.0.1";
+    cfg.port = acc.local_endpoint().port();
+    cfg.silence_timeout_s = 0.2;
+    cfg.backoff = {0.05, 0.1, 0.0};
+    auto src = TcpSource::create(io, cfg);
+    std::vector<SourceState> states;
+    std::vector<GapEvent> gaps;
+    std::string got;
+    src->start({[&](std::span<const std::byte> b, double) {
+                    got.append(reinterpret_cast<const char*>(b.data()), b.size());
+                    src->stop();
+                },
+                [&](SourceState s) { states.push_back(s); }, [&](const GapEvent& g) { gaps.push_back(g); }});
+    io.run_for(std::chrono::seconds(3));
+    server.join();
+    CHECK(got == "1,2 N\n");
+    CHECK(states == std::vector<SourceState>{SourceState::connecting, SourceState::connected, SourceState::waiting,
+                                             SourceState::connected, SourceState::stopped});
+    REQUIRE(gaps.size() == 2);
+    CHECK(gaps[0].reason == "no data for the silence timeout");
 }
