@@ -162,8 +162,10 @@ json LiveFeed::values() const {
         const auto phase = a->phase();
         v["rate_phase"] = tensile::name_of(phase);
         const auto& run = rig_.run();
-        if (run) {
-            const auto& band = rig_.config().profiles.at(run->profile).profile.rate_bands[static_cast<int>(phase)];
+        // find, not at: SIGHUP may have re-read the profiles since this run was armed.
+        if (const auto found = run ? rig_.config().profiles.find(run->profile) : rig_.config().profiles.end();
+            found != rig_.config().profiles.end()) {
+            const auto& band = found->second.profile.rate_bands[static_cast<int>(phase)];
             v["rate_band_per_s"] = {band.min_per_s, band.max_per_s};
         }
     }

@@ -6,6 +6,7 @@
 #include <spawn.h>
 #include <sys/wait.h>
 
+#include <algorithm>
 #include <cstdio>
 #include <fstream>
 #include <cstring>
@@ -118,6 +119,11 @@ void DemoRig::spawn(const DemoSpecimen& s) {
     std::vector<std::string> args{simulator_.string(), "--material", s.material, "--tcp", endpoint, "--realtime",
                                   "--speed", speed, "--format", "lines", "--after-end", "2",
                                   "--truth", (data_dir_ / ("demo-truth-" + std::to_string(next_) + ".json")).string()};
+    if (fast_rate_hz_ > 0) {
+        // Replace the pacing: --fast at the given sample rate.
+        args.erase(std::find(args.begin(), args.end(), "--realtime"), std::find(args.begin(), args.end(), "--format"));
+        args.insert(args.end(), {"--fast", "--rate", std::to_string(fast_rate_hz_)});
+    }
     for (const auto& f : faults_) {
         args.push_back("--fault");
         args.push_back(f);

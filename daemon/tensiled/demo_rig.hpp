@@ -48,6 +48,8 @@ public:
     void start();
     // Fault specs handed to every simulator run (`--fault SPEC`, see simulator/README.md).
     void inject(std::vector<std::string> faults) { faults_ = std::move(faults); }
+    // Benchmarks: the simulator writes as fast as the daemon reads, at this sample rate.
+    void flat_out(double rate_hz) { fast_rate_hz_ = rate_hz; }
     // Hooks the service calls (wired by main).
     void on_extensometer_alert();
     void on_run_end(const RunInfo& run, RunState end, const Results& results);
@@ -68,6 +70,7 @@ private:
     std::filesystem::path data_dir_;
     std::shared_ptr<spdlog::logger> log_;
     std::vector<std::string> faults_;
+    double fast_rate_hz_ = 0;
     std::size_t next_ = 0;
     int child_ = -1;
     boost::asio::steady_timer operator_, pause_;

@@ -16,6 +16,7 @@
 #include <boost/asio/signal_set.hpp>
 #include <algorithm>
 #include <filesystem>
+#include <functional>
 #include <iostream>
 #include <spdlog/sinks/rotating_file_sink.h>
 #include <spdlog/sinks/stdout_sinks.h>
@@ -51,7 +52,7 @@ std::uint16_t free_port() {
 }
 
 int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::size_t demo_runs,
-               const std::vector<std::string>& demo_faults, const std::filesystem::path& self,
+               const std::vector<std::string>& demo_faults, double demo_fast_rate, const std::filesystem::path& self,
                bool monitor_port_given) {
     auto log = make_logger(config.data_dir, config.log_level);
     log->info("tensiled {} starting; rig '{}', data in {}", TENSILED_VERSION, config.rig.name, config.data_dir.string());
@@ -71,6 +72,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         demo_rig = std::make_unique<tensile::DemoRig>(io, rig, sim, port, std::move(queue), demo_speed, demo_runs,
                                                       config.data_dir, log);
         demo_rig->inject(demo_faults);
+        if (demo_fast_rate > 0) demo_rig->flat_out(demo_fast_rate);
     }
     // Monitor (daemon/monitor): HTTP API, live feed, /metrics and the page.
     std::unique_ptr<tensile::monitor::MonitorServer> monitor_server;
@@ -88,7 +90,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     auto& feed = monitor.feed();
     tensile::RigObservers observers;
     observers.on_armed = [&](const tensile::RunInfo& run) {
-        keeper.armed(run, config.profiles.at(run.profile), config.text);
+        keeper.armed(run, rig.config().profiles.at(run.profile), rig.config().text);
         keeper.sources_at_arming(rig.acquisition().status());
         feed.armed(run, keeper.current_run());
     };
@@ -126,6 +128,29 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         monitor.stop();
         io.stop();
     });
+    // SIGHUP: re-read the config; profiles take effect for the next run.
+    boost::asio::signal_set hangup(io, SIGHUP);
+    std::function<void()> wait_hangup = [&] {
+        hangup.async_wait([&](const boost::system::error_code& ec, int) {
+            if (ec) return;
+            if (config.file.empty()) {
+                log->warn("SIGHUP: the demo rig has no config file to re-read");
+            } else {
+                try {
+                    const auto fresh = tensile::load_daemon_config(config.file);
+                    if (auto r = rig.reload(fresh); r)
+                        log->info("SIGHUP: profiles re-read from {}; sources and outputs change on restart only",
+                                  config.file.string());
+                    else
+                        log->warn("SIGHUP: {}", r.error());
+                } catch (const std::exception& e) {
+                    log->error("SIGHUP: {} refused, the running config stays: {}", config.file.string(), e.what());
+                }
+            }
+            wait_hangup();
+        });
+    };
+    wait_hangup();
     rig.start();
     monitor.start();
     // Tests and scripts read the address from this line.
@@ -152,6 +177,7 @@ int main(int argc, char** argv) {
     double demo_speed = 1.0;
     std::size_t demo_runs = 0;
     std::vector<std::string> demo_faults;
+    double demo_fast_rate = 0;
     std::string data_dir = "data/demo";
     int monitor_port = -1;  // -1: the config's (demo: 8470)
     auto* o_config = app.add_option("--config", config_file, "Rig config (TOML) to run");
@@ -160,6 +186,9 @@ int main(int argc, char** argv) {
     app.add_option("--demo-speed", demo_speed, "Demo: simulated seconds per wall second")->check(CLI::Range(0.1, 20.0));
     app.add_option("--demo-data", data_dir, "Demo: data folder")->capture_default_str();
     app.add_option("--demo-fault", demo_faults, "Demo: a fault for the simulator to inject, KIND@START[+DURATION][:PARAM]");
+    app.add_option("--demo-flat-out", demo_fast_rate,
+                   "Demo (benchmarks): the simulator streams as fast as read, at this sample rate in Hz")
+        ->check(CLI::Range(1.0, 1e6));
     app.add_option("--demo-runs", demo_runs, "Demo: stop after this many specimens (0: play all, then keep serving)");
     app.add_option("--monitor-port", monitor_port, "Monitor port instead of the config's (0: any free port)")
         ->check(CLI::Range(0, 65535));
@@ -200,7 +229,8 @@ int main(int argc, char** argv) {
     }
     try {
         const auto self = std::filesystem::canonical("/proc/self/exe");
-        return run_daemon(std::move(config), demo, demo_speed, demo_runs, demo_faults, self, monitor_port >= 0);
+        return run_daemon(std::move(config), demo, demo_speed, demo_runs, demo_faults, demo_fast_rate, self,
+                          monitor_port >= 0);
     } catch (const std::exception& e) {
         std::cerr << "tensiled: " << e.what() << '\n';
         return 1;

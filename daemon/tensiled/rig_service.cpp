@@ -173,6 +173,16 @@ void RigService::carry_out(const Request& r) {
     }
 }
 
+Result<bool> RigService::reload(const DaemonConfig& fresh) {
+    if (live(controller_.state()))
+        return Error{std::string("config not reloaded: a run is ") + name_of(controller_.state()) +
+                     "; reload when it has finished"};
+    config_.profiles = fresh.profiles;
+    config_.default_profile = fresh.default_profile;
+    config_.text = fresh.text;
+    return true;
+}
+
 void RigService::send_command(const std::string& command) {
     if (commands_) commands_->submit(command, [](const drivers::CommandResult&) {});
 }

@@ -65,6 +65,9 @@ public:
     [[nodiscard]] const DaemonConfig& config() const { return config_; }
     [[nodiscard]] const Acquisition& acquisition() const { return acquisition_; }
     [[nodiscard]] const drivers::AlignedFrame& last_frame() const { return last_frame_; }
+    // SIGHUP: takes the profiles of a re-read config. Refused while a run is
+    // armed or running; sources and outputs need a restart (said in the result).
+    Result<bool> reload(const DaemonConfig& fresh);
     // Sends one command line on the rig's command output (demo operator, tests).
     void send_command(const std::string& command);
 
