@@ -1,9 +1,10 @@
 // tensilectl: the command-line side of tensiled. Offline tools work without a
-// daemon; commands that talk to a running daemon come with the monitor work.
+// daemon; the daemon commands talk to a running tensiled (daemon_commands.hpp).
 #include <CLI/CLI.hpp>
 #include <iostream>
 
 #include "analyze_command.hpp"
+#include "daemon_commands.hpp"
 #include "verify_command.hpp"
 
 int main(int argc, char** argv) {
@@ -13,6 +14,8 @@ int main(int argc, char** argv) {
     int exit_code = 0;
     tensile::ctl::add_analyze_command(app, exit_code);
     tensile::ctl::add_verify_command(app, exit_code);
+    tensile::ctl::add_daemon_commands(app, exit_code);
+    tensile::ctl::add_watch_command(app, exit_code);
     try {
         app.parse(argc, argv);
     } catch (const CLI::ParseError& e) {

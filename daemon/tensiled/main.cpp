@@ -23,6 +23,7 @@
 #include <spdlog/spdlog.h>
 
 #include "config/daemon_config.hpp"
+#include "daemon/monitor/monitor_server.hpp"
 #include "demo_rig.hpp"
 #include "rig_service.hpp"
 #include "run_keeper.hpp"
@@ -51,7 +52,8 @@ std::uint16_t free_port() {
 }
 
 int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::size_t demo_runs,
-               const std::vector<std::string>& demo_faults, double demo_fast_rate, const std::filesystem::path& self) {
+               const std::vector<std::string>& demo_faults, double demo_fast_rate, const std::filesystem::path& self,
+               bool monitor_port_given) {
     auto log = make_logger(config.data_dir, config.log_level);
     log->info("tensiled {} starting; rig '{}', data in {}", TENSILED_VERSION, config.rig.name, config.data_dir.string());
     log->warn("tensiled is no interlock: the frame's own limits, guards and emergency stop stay in charge");
@@ -72,15 +74,31 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         demo_rig->inject(demo_faults);
         if (demo_fast_rate > 0) demo_rig->flat_out(demo_fast_rate);
     }
+    // Monitor (daemon/monitor): HTTP API, live feed, /metrics and the page.
+    std::unique_ptr<tensile::monitor::MonitorServer> monitor_server;
+    try {
+        monitor_server = std::make_unique<tensile::monitor::MonitorServer>(io, config.monitor, config.data_dir, rig, keeper, log);
+    } catch (const std::runtime_error& e) {
+        // The demo's fixed port may be taken (another demo or a test beside it): any free port then.
+        if (!demo || monitor_port_given) throw;
+        log->warn("{}; the demo's monitor takes a free port instead", e.what());
+        auto any_port = config.monitor;
+        any_port.port = 0;
+        monitor_server = std::make_unique<tensile::monitor::MonitorServer>(io, any_port, config.data_dir, rig, keeper, log);
+    }
+    auto& monitor = *monitor_server;
+    auto& feed = monitor.feed();
     tensile::RigObservers observers;
     observers.on_armed = [&](const tensile::RunInfo& run) {
         keeper.armed(run, rig.config().profiles.at(run.profile), rig.config().text);
         keeper.sources_at_arming(rig.acquisition().status());
+        feed.armed(run, keeper.current_run());
     };
     observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) {
         for (const auto& t : out.transitions)
             if (t.to == tensile::RunState::running) keeper.started(rig.controller());
         keeper.step(run, out);
+        feed.step(run, out);
     };
     observers.on_raw = [&](const std::string& source, std::span<const std::byte> bytes, double arrival_s) {
         if (tensile::live(rig.state())) keeper.raw(source, bytes, arrival_s);
@@ -88,14 +106,17 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     observers.on_alarm = [&](const std::string& kind, const std::string& message) {
         log->warn("alarm {}: {}", kind, message);
         keeper.alarm(kind, message);
+        feed.alarm(kind, message);
         if (kind == "extensometer_alert" && demo_rig) demo_rig->on_extensometer_alert();
     };
     observers.on_run_end = [&](const tensile::RunInfo& run, tensile::RunState end, const tensile::Results& results) {
         log->info("run {} ended: {}", run.number, tensile::name_of(end));
         keeper.sources_at_end(rig.acquisition().status());
+        feed.run_end(run, end, results);  // before the keeper forgets the stored id
         keeper.ended(run, end, results);
         if (demo_rig) demo_rig->on_run_end(run, end, results);
     };
+    observers.on_idle_frame = [&](const tensile::drivers::AlignedFrame& f) { feed.idle_frame(f); };
     rig.observe(observers);
 
     boost::asio::signal_set signals(io, SIGINT, SIGTERM);
@@ -104,6 +125,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         log->info("signal {}: finishing and exiting", signo);
         if (tensile::live(rig.state())) (void)rig.abort_run("daemon stopped by signal");
         rig.stop();
+        monitor.stop();
         io.stop();
     });
     // SIGHUP: re-read the config; profiles take effect for the next run.
@@ -130,6 +152,9 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     };
     wait_hangup();
     rig.start();
+    monitor.start();
+    // Tests and scripts read the address from this line.
+    std::cout << "monitor http://" << config.monitor.listen << ':' << monitor.port() << "/\n" << std::flush;
     if (demo_rig) {
         std::cout << "demo: the simulator plays Harbourline Metals specimens on 127.0.0.1:"
                   << config.drivers.sources.front().tcp.port << "; results print as each run ends. Ctrl-C to stop.\n"
@@ -137,6 +162,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
         demo_rig->start();
     }
     io.run();
+    monitor.stop();
     keeper.stop();
     const auto [p50, p99] = rig.event_latency_p50_p99();
     log->info("event reaction time (bytes read to events out and requests handed to the outputs): p50 {:.3f} ms, "
@@ -156,6 +182,7 @@ int main(int argc, char** argv) {
     std::vector<std::string> demo_faults;
     double demo_fast_rate = 0;
     std::string data_dir = "data/demo";
+    int monitor_port = -1;  // -1: the config's (demo: 8470)
     auto* o_config = app.add_option("--config", config_file, "Rig config (TOML) to run");
     auto* o_check = app.add_option("--check-config", check_file, "Validate a config and exit");
     auto* o_demo = app.add_flag("--demo", demo, "Run the embedded demo rig (a simulator child process)");
@@ -166,6 +193,8 @@ int main(int argc, char** argv) {
                    "Demo (benchmarks): the simulator streams as fast as read, at this sample rate in Hz")
         ->check(CLI::Range(1.0, 1e6));
     app.add_option("--demo-runs", demo_runs, "Demo: stop after this many specimens (0: play all, then keep serving)");
+    app.add_option("--monitor-port", monitor_port, "Monitor port instead of the config's (0: any free port)")
+        ->check(CLI::Range(0, 65535));
     o_config->excludes(o_check)->excludes(o_demo);
     o_check->excludes(o_demo);
     app.set_version_flag("--version", std::string("tensiled ") + TENSILED_VERSION);
@@ -183,6 +212,8 @@ int main(int argc, char** argv) {
         if (demo) {
             const auto dir = std::filesystem::absolute(data_dir);
             config = tensile::load_daemon_config_text(tensile::demo_config_text(dir, free_port(), 8470), dir);
+            // The demo keeps its monitor token beside its database (created owner-only).
+            config.monitor.token_file = dir / "monitor.token";
         } else {
             config = tensile::load_daemon_config(check_file.empty() ? config_file : check_file);
         }
@@ -193,6 +224,7 @@ int main(int argc, char** argv) {
         std::cerr << "tensiled: " << e.what() << '\n';
         return 2;
     }
+    if (monitor_port >= 0) config.monitor.port = static_cast<std::uint16_t>(monitor_port);
     if (!check_file.empty()) {
         std::cout << check_file << ": good (" << config.drivers.sources.size() << " sources, " << config.profiles.size()
                   << " profiles)\n";
@@ -200,7 +232,8 @@ int main(int argc, char** argv) {
     }
     try {
         const auto self = std::filesystem::canonical("/proc/self/exe");
-        return run_daemon(std::move(config), demo, demo_speed, demo_runs, demo_faults, demo_fast_rate, self);
+        return run_daemon(std::move(config), demo, demo_speed, demo_runs, demo_faults, demo_fast_rate, self,
+                          monitor_port >= 0);
     } catch (const std::exception& e) {
         std::cerr << "tensiled: " << e.what() << '\n';
         return 1;

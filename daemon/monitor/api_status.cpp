@@ -1,0 +1,143 @@
+// The status document and the Prometheus metrics; see api.hpp. Both are
+// built on the io_context thread from in-memory counters (no database).
+#include <cmath>
+#include <filesystem>
+#include <sstream>
+
+#include "api.hpp"
+#include "daemon/tensiled/run_keeper.hpp"
+#include "shared_state.hpp"
+
+namespace tensile::monitor {
+
+using nlohmann::json;
+
+namespace {
+
+json source_json(const Acquisition::SourceStatus& s) {
+    const auto& st = s.counters.stream;
+    json channels = json::array();
+    for (const auto& c : s.counters.channels)
+        channels.push_back({{"good", c.good}, {"nan", c.nan}, {"overload", c.overload}, {"out_of_range", c.out_of_range}});
+    return {{"name", s.name},
+            {"state", std::string(drivers::name_of(s.state))},
+            {"bytes", st.bytes},
+            {"records", st.records},
+            {"bad_records", st.bad_records},
+            {"long_lines", st.long_lines},
+            {"checksum_failures", st.checksum_failures},
+            {"resync_bytes", st.resync_bytes},
+            {"lost_frames", st.lost_frames},
+            {"channels", channels}};
+}
+
+json recorder_json(const storage::RecorderCounters& c) {
+    return {{"frames_queued", c.frames_queued},
+            {"frames_committed", c.frames_committed},
+            {"frames_dropped", c.frames_dropped},
+            {"frames_refused_disk", c.frames_refused_disk},
+            {"messages_dropped", c.messages_dropped},
+            {"raw_bytes_written", c.raw_bytes_written},
+            {"write_errors", c.write_errors},
+            {"queue_depth", c.frames_waiting},
+            {"queue_high_water", c.frame_high_water},
+            {"disk_low", c.disk_low}};
+}
+
+}  // namespace
+
+json Api::status() const {
+    json j;
+    j["daemon"] = {{"version", TENSILED_VERSION},
+                   {"rig", c_.rig.config().rig.name},
+                   {"uptime_s", steady_now_s() - started_s_}};
+    j["state"] = tensile::name_of(c_.rig.state());
+    j["handover"] = name_of(c_.rig.handover());
+    if (const auto& run = c_.rig.run(); run && live(c_.rig.state())) {
+        j["run"] = {{"number", run->number},
+                    {"id", c_.feed.run_id() ? json(*c_.feed.run_id()) : json(nullptr)},
+                    {"label", run->specimen.label},
+                    {"material", run->specimen.material},
+                    {"profile", run->profile},
+                    {"S0_mm2", run->geometry.S0_mm2},
+                    {"L0_mm", run->geometry.L0_mm}};
+    } else {
+        j["run"] = nullptr;
+    }
+    j["values"] = c_.feed.values();
+    json sources = json::array();
+    for (const auto& s : c_.rig.acquisition().status()) sources.push_back(source_json(s));
+    j["sources"] = sources;
+    j["acquisition"] = {{"frames", c_.rig.acquisition().frames_out()}, {"frames_per_s", c_.feed.frames_per_s()}};
+    j["recorder"] = recorder_json(c_.keeper.counters());
+    j["monitor"] = {{"live_clients", c_.hub.clients()}, {"live_clients_dropped", c_.hub.dropped()},
+                    {"token_required_for_reads", !c_.access.loopback()}};
+    json alarms = json::array();
+    for (const auto& a : c_.feed.alarms())
+        alarms.push_back({{"kind", a.kind}, {"message", a.message}, {"unix_s", a.unix_s},
+                          {"run_id", a.run_id ? json(*a.run_id) : json(nullptr)}});
+    j["alarms"] = alarms;
+    json profiles = json::array();
+    for (const auto& [name, p] : c_.rig.config().profiles) profiles.push_back(name);
+    j["profiles"] = profiles;
+    j["default_profile"] = c_.rig.config().default_profile;
+    return j;
+}
+
+std::string Api::metrics() const {
+    std::ostringstream m;
+    m.precision(12);
+    auto metric = [&](const char* name, const char* type, const char* help) {
+        m << "# HELP " << name << ' ' << help << "\n# TYPE " << name << ' ' << type << '\n';
+    };
+    metric("tensiled_frames_total", "counter", "Aligned frames produced by acquisition since start.");
+    m << "tensiled_frames_total " << c_.rig.acquisition().frames_out() << '\n';
+    metric("tensiled_frames_per_second", "gauge", "Aligned frames over the last second.");
+    m << "tensiled_frames_per_second " << c_.feed.frames_per_s() << '\n';
+
+    const auto sources = c_.rig.acquisition().status();
+    metric("tensiled_source_connected", "gauge", "1 when the source is connected.");
+    for (const auto& s : sources)
+        m << "tensiled_source_connected{source=\"" << s.name << "\"} " << (s.state == drivers::SourceState::connected) << '\n';
+    metric("tensiled_source_bytes_total", "counter", "Bytes read from the source.");
+    for (const auto& s : sources) m << "tensiled_source_bytes_total{source=\"" << s.name << "\"} " << s.counters.stream.bytes << '\n';
+    metric("tensiled_source_bad_bytes_total", "counter", "Bytes discarded while resynchronising (bad lines, bad frames).");
+    for (const auto& s : sources)
+        m << "tensiled_source_bad_bytes_total{source=\"" << s.name << "\"} " << s.counters.stream.resync_bytes << '\n';
+    metric("tensiled_source_bad_records_total", "counter", "Torn or malformed records and checksum failures.");
+    for (const auto& s : sources)
+        m << "tensiled_source_bad_records_total{source=\"" << s.name << "\"} "
+          << s.counters.stream.bad_records + s.counters.stream.checksum_failures << '\n';
+
+    const auto rc = c_.keeper.counters();
+    metric("tensiled_recorder_queue_depth", "gauge", "Frames waiting in the recorder's queue.");
+    m << "tensiled_recorder_queue_depth " << rc.frames_waiting << '\n';
+    metric("tensiled_recorder_frames_committed_total", "counter", "Frames known durable in the database.");
+    m << "tensiled_recorder_frames_committed_total " << rc.frames_committed << '\n';
+    metric("tensiled_recorder_frames_dropped_total", "counter", "Frames lost because the recorder's queue was full.");
+    m << "tensiled_recorder_frames_dropped_total " << rc.frames_dropped << '\n';
+    metric("tensiled_recorder_write_errors_total", "counter", "Database write errors.");
+    m << "tensiled_recorder_write_errors_total " << rc.write_errors << '\n';
+
+    metric("tensiled_run_state", "gauge", "1 for the rig's current run state.");
+    for (auto s : {RunState::idle, RunState::armed, RunState::running, RunState::finished, RunState::aborted,
+                   RunState::interrupted, RunState::faulted})
+        m << "tensiled_run_state{state=\"" << tensile::name_of(s) << "\"} " << (c_.rig.state() == s) << '\n';
+    metric("tensiled_handover_waiting", "gauge", "1 while the extensometer should be removed.");
+    m << "tensiled_handover_waiting " << (c_.rig.handover() == HandoverState::waiting) << '\n';
+
+    std::error_code ec;
+    const auto space = std::filesystem::space(c_.data_dir, ec);
+    metric("tensiled_disk_free_bytes", "gauge", "Free bytes on the data folder's file system.");
+    m << "tensiled_disk_free_bytes " << (ec ? 0.0 : static_cast<double>(space.available)) << '\n';
+
+    metric("tensiled_live_clients", "gauge", "WebSocket clients of the live feed.");
+    m << "tensiled_live_clients " << c_.hub.clients() << '\n';
+    metric("tensiled_live_clients_dropped_total", "counter", "Live clients dropped because they fell behind.");
+    m << "tensiled_live_clients_dropped_total " << c_.hub.dropped() << '\n';
+    metric("tensiled_alarms_recent", "gauge", "Alarms held in the recent list.");
+    m << "tensiled_alarms_recent " << c_.feed.alarms().size() << '\n';
+    return m.str();
+}
+
+}  // namespace tensile::monitor
