@@ -4,6 +4,7 @@
 #include <iostream>
 
 #include "analyze_command.hpp"
+#include "report_commands.hpp"
 #include "verify_command.hpp"
 
 int main(int argc, char** argv) {
@@ -13,6 +14,7 @@ int main(int argc, char** argv) {
     int exit_code = 0;
     tensile::ctl::add_analyze_command(app, exit_code);
     tensile::ctl::add_verify_command(app, exit_code);
+    tensile::ctl::add_report_commands(app, exit_code);
     try {
         app.parse(argc, argv);
     } catch (const CLI::ParseError& e) {
