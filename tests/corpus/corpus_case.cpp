@@ -187,7 +187,8 @@ std::string compare_texts(const std::string& expected, const std::string& actual
             if (gx != gy) { same = false; break; }
             if (x == y) continue;
             const auto nx = as_number(x), ny = as_number(y);
-            const bool prefix_same = x.substr(0, x.find('=')) == y.substr(0, y.find('='));
+            const auto key = [](const std::string& w) { const auto eq = w.find('='); return eq == std::string::npos ? std::string() : w.substr(0, eq); };
+            const bool prefix_same = key(x) == key(y);
             if (!nx || !ny || !prefix_same ||
                 std::abs(*nx - *ny) > std::max(1e-12, rel * std::max(std::abs(*nx), std::abs(*ny)))) {
                 same = false;
