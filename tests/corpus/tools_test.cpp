@@ -300,13 +300,27 @@ TEST_CASE("tools: tensile-sim replay streams a stored run's bytes in their timin
         analyzer.push(f, events);
     }
     const Results now = analyzer.finish();
+    // Force and crosshead are the same bits frame by frame; the extensometer
+    // is paired with the force by time in the aligner, and a live read has
+    // its own arrival times, so a few frames pair differently (the demo
+    // records at 20x speed, tens of frames per millisecond of host time).
+    std::size_t same = 0, n = 0;
+    for (std::size_t k = from; k < aligned.size() && k - from < stored->size(); ++k, ++n) {
+        const auto& a = aligned[k].frame;
+        const auto& b = (*stored)[k - from];
+        const double ext = a.extension_mm - c["tare_extension_mm"];
+        same += a.force_N - c["tare_force_N"] == b.force_N &&
+                (std::abs(ext - b.extension_mm) < 1e-9 || (std::isnan(ext) && std::isnan(b.extension_mm)));
+    }
+    CHECK(n + 2 >= stored->size());
+    CHECK(same >= 0.9 * static_cast<double>(n));
     const auto want = nlohmann::json::parse(*rec->results_json);
-    // Values are the same bits; only the times of a live read differ, so a
-    // small tolerance covers results that depend on timing (break, rates).
+    // Results from force alone agree to 1e-4; those that use the extensometer
+    // (E, Rp0.2) within 1 %, for the pairing above.
     CHECK(*now.Rm_MPa == Approx(want.at("Rm_MPa").get<double>()).epsilon(1e-4));
     CHECK(*now.Fm_N == Approx(want.at("Fm_N").get<double>()).epsilon(1e-4));
-    CHECK(*now.E_MPa == Approx(want.at("E_MPa").get<double>()).epsilon(1e-3));
-    if (want.at("Rp0.2_MPa").is_number()) CHECK(*now.proof(0.2) == Approx(want.at("Rp0.2_MPa").get<double>()).epsilon(1e-3));
+    CHECK(*now.E_MPa == Approx(want.at("E_MPa").get<double>()).epsilon(1e-2));
+    if (want.at("Rp0.2_MPa").is_number()) CHECK(*now.proof(0.2) == Approx(want.at("Rp0.2_MPa").get<double>()).epsilon(1e-2));
 }
 
 TEST_CASE("tools: tensile-sim replay refuses bad input with one message and exit 2") {
