@@ -1,6 +1,7 @@
 // The batch summary; see batch_summary.hpp.
 #include "batch_summary.hpp"
 
+#include <algorithm>
 #include <cctype>
 #include <cmath>
 #include <cstdio>
@@ -96,6 +97,9 @@ Result<BatchSummary> summarise(storage::Store& store, const storage::RunFilter& 
         }
         runs.push_back(std::move(s));
     }
+    std::sort(runs.begin(), runs.end(), [](const SummaryRun& a, const SummaryRun& b) {
+        return a.created_unix_s != b.created_unix_s ? a.created_unix_s < b.created_unix_s : a.id < b.id;
+    });
     auto b = summarise_runs(std::move(runs));
     b.skipped = skipped;
     return b;
@@ -116,7 +120,7 @@ std::string summary_text(const BatchSummary& b) {
     std::string out;
     char line[512];
     out += "Runs\n";
-    std::snprintf(line, sizeof line, "  %6s  %-10s  %-34s  %-8s", "run", "date", "material", "lot");
+    std::snprintf(line, sizeof line, "  %6s  %-10s  %-40s  %-8s", "run", "date", "material", "lot");
     out += line;
     for (const auto& k : keys) out += std::string(11 - std::min<std::size_t>(11, k.size()), ' ') + k;
     out += "\n";
@@ -125,7 +129,7 @@ std::string summary_text(const BatchSummary& b) {
         const std::time_t t = static_cast<std::time_t>(r.created_unix_s);
         std::tm tm{};
         if (gmtime_r(&t, &tm)) std::strftime(date, sizeof date, "%Y-%m-%d", &tm);
-        std::snprintf(line, sizeof line, "  %6lld  %-10s  %-34.34s  %-8.8s", static_cast<long long>(r.id), date,
+        std::snprintf(line, sizeof line, "  %6lld  %-10s  %-40.40s  %-8.8s", static_cast<long long>(r.id), date,
                       r.what.material.c_str(), r.what.lot.empty() ? "-" : r.what.lot.c_str());
         out += line;
         for (std::size_t k = 0; k < keys.size(); ++k) {
@@ -135,13 +139,13 @@ std::string summary_text(const BatchSummary& b) {
         out += "\n";
     }
     out += "\nPer material and lot (mean, sample standard deviation, values counted)\n";
-    std::snprintf(line, sizeof line, "  %-34s  %-8s  %-10s  %12s  %12s  %4s\n", "material", "lot", "quantity", "mean", "sd", "n");
+    std::snprintf(line, sizeof line, "  %-40s  %-8s  %-10s  %12s  %12s  %4s\n", "material", "lot", "quantity", "mean", "sd", "n");
     out += line;
     for (const auto& g : b.groups)
         for (std::size_t k = 0; k < keys.size(); ++k) {
             if (g.stats[k].n == 0) continue;
             const int p = precision_of(keys[k]) + 1;
-            std::snprintf(line, sizeof line, "  %-34.34s  %-8.8s  %-10s  %12s  %12s  %4zu\n", g.what.material.c_str(),
+            std::snprintf(line, sizeof line, "  %-40.40s  %-8.8s  %-10s  %12s  %12s  %4zu\n", g.what.material.c_str(),
                           g.what.lot.empty() ? "-" : g.what.lot.c_str(), keys[k].c_str(), cell(g.stats[k].mean, p).c_str(),
                           cell(g.stats[k].sd, p).c_str(), g.stats[k].n);
             out += line;

@@ -85,7 +85,8 @@ void draw_curve(storage::Store& store, std::int64_t run, ReportData& d) {
     for (std::size_t i = 0; i < h.size(); ++i) d.curve.push_back({100 * (h.strain[i] - toe), h.stress_MPa[i]});
     for (const auto& e : d.run.events) {
         if (e.kind == EventKind::rate_out_of_range || e.kind == EventKind::rate_in_range || e.kind == EventKind::modulus) continue;
-        d.marks.push_back({100 * e.strain, e.stress_MPa, e.label.empty() ? name_of(e.kind) : e.label});
+        const std::string label = e.kind == EventKind::extensometer_lost ? "extensometer off" : e.label.empty() ? name_of(e.kind) : e.label;
+        d.marks.push_back({100 * e.strain, e.stress_MPa, label});
     }
 }
 

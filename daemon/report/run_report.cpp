@@ -45,9 +45,23 @@ std::string unit_of(const std::string& key) {
     return "";
 }
 
+// Standard symbol of a results key; the few keys that are no symbol get words.
 std::string symbol_of(const std::string& key) {
-    const auto u = key.rfind('_');
-    return u == std::string::npos ? key : key.substr(0, u);
+    static const std::pair<const char*, const char*> words[] = {
+        {"E_r2", "E fit r²"}, {"E_cv_pct", "E slope CV (ASTM E111)"}, {"toe_strain_pct", "toe correction"},
+        {"fracture_force_N", "force at fracture"}, {"n_value", "n"}};
+    for (const auto& [k, w] : words)
+        if (key == k) return w;
+    for (const char* suffix : {"_MPa", "_N", "_pct", "_mm2", "_mm"})
+        if (key.ends_with(suffix)) return key.substr(0, key.size() - std::string(suffix).size());
+    return key;
+}
+
+std::string words_of(const char* name) {
+    std::string s = name;
+    for (char& c : s)
+        if (c == '_') c = ' ';
+    return s;
 }
 
 const char* style = R"css(
@@ -111,7 +125,7 @@ void rate_section(std::ostringstream& o, const ReportData& d) {
             band = (b.min_per_s == 0 && b.max_per_s == 0) ? "not checked" : num(b.min_per_s, 3) + " – " + num(b.max_per_s, 3);
         }
         const double checked = r.value("seconds_checked", 0.0), share = r.value("share_inside", 0.0);
-        const char* verdict = checked <= 0 ? "no rate known" : share >= 0.95 ? "inside" : "outside for part of the phase";
+        const char* verdict = checked <= 0 ? "no rate known" : share >= 0.95 ? "inside" : share <= 0 ? "outside" : "outside for part of the phase";
         o << "<tr><td>" << phase << "</td><td>" << band << "</td><td class=\"n\">" << num(checked, 4) << "</td><td class=\"n\">"
           << num(100 * share, 3) << " %</td><td class=\"" << (checked > 0 && share < 0.95 ? "bad" : "") << "\">" << verdict
           << "</td></tr>\n";
@@ -143,7 +157,8 @@ Result<std::string> html_report(storage::Store& store, std::int64_t run, const R
 
     o << "<h2>Specimen</h2>\n";
     std::vector<std::pair<std::string, std::string>> rows;
-    for (auto it = d.specimen.begin(); it != d.specimen.end(); ++it) rows.push_back({it.key(), text_of(*it)});
+    for (auto it = d.specimen.begin(); it != d.specimen.end(); ++it)
+        if (!(it->is_number() && it->get<double>() == 0)) rows.push_back({it.key(), text_of(*it)});  // zero: not used by this shape
     if (d.results.contains("S0_mm2")) rows.push_back({"S0 used, mm²", text_of(d.results["S0_mm2"])});
     if (d.results.contains("L0_mm")) rows.push_back({"L0 used, mm", text_of(d.results["L0_mm"])});
     kv_table(o, rows);
@@ -195,7 +210,7 @@ Result<std::string> html_report(storage::Store& store, std::int64_t run, const R
 
     o << "<h2>Events</h2>\n<table class=\"events\">\n<tr><th>time, s</th><th>event</th><th>stress, MPa</th><th>strain, %</th><th>value</th></tr>\n";
     for (const auto& e : d.run.events)
-        o << "<tr><td class=\"n\">" << num(e.time_s, 6) << "</td><td>" << name_of(e.kind)
+        o << "<tr><td class=\"n\">" << num(e.time_s, 6) << "</td><td>" << words_of(name_of(e.kind))
           << (e.label.empty() ? "" : " · " + escape_xml(e.label)) << "</td><td class=\"n\">" << num(e.stress_MPa, 5)
           << "</td><td class=\"n\">" << num(100 * e.strain, 4) << "</td><td class=\"n\">" << num(e.value, 5) << "</td></tr>\n";
     o << "</table>\n";

@@ -71,6 +71,9 @@ std::string svg_curve(const std::vector<CurvePoint>& curve, const std::vector<Cu
         x_min = std::min(x_min, p.strain_pct);
         y_min = std::min(y_min, p.stress_MPa);
     }
+    // A little negative strain (noise, the toe) should not push the axis below zero.
+    if (x_min < 0 && -x_min < 0.03 * x_max) x_min = 0;
+    if (y_min < 0 && -y_min < 0.03 * y_max) y_min = 0;
     if (x_max - x_min <= 0) x_max = x_min + 1;
     if (y_max - y_min <= 0) y_max = y_min + 1;
     const double xs = nice_step(x_max - x_min, 8), ys = nice_step(y_max - y_min, 6);
@@ -113,8 +116,11 @@ std::string svg_curve(const std::vector<CurvePoint>& curve, const std::vector<Cu
         const double x = X(m.strain_pct), y = Y(m.stress_MPa);
         // Labels alternate above and below so neighbouring events stay readable.
         const double dy = (n++ % 2 == 0) ? -8 : 16;
+        // Near the right edge the label goes to the left of its point.
+        const bool flip = x > left + 0.85 * pw;
         s << "<circle cx=\"" << fmt(x) << "\" cy=\"" << fmt(y) << "\" r=\"4\" fill=\"#b8502a\"/>"
-          << "<text x=\"" << fmt(x + 6) << "\" y=\"" << fmt(y + dy) << "\" fill=\"#7a2f12\">" << escape_xml(m.label)
+          << "<text x=\"" << fmt(flip ? x - 6 : x + 6) << "\" y=\"" << fmt(y + dy) << "\" fill=\"#7a2f12\""
+          << (flip ? " text-anchor=\"end\"" : "") << ">" << escape_xml(m.label)
           << "</text>\n";
     }
     s << "</g>\n</svg>\n";
