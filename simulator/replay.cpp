@@ -113,6 +113,10 @@ int replay_main(int argc, char** argv) {
             return 1;
         }
     }
+    // On a pty the kernel moves the last write to the reader's side a moment
+    // later; the sink's finish() checks that side, so give it that moment
+    // (else the tail can be lost when the pty closes).
+    if (pty) std::this_thread::sleep_for(std::chrono::milliseconds(300));
     s.finish();
     return 0;
 }
