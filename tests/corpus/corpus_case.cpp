@@ -128,13 +128,17 @@ CaseRun run_case(const CaseSpec& spec, const std::filesystem::path& dir, double 
 
     Profile profile;  // defaults: ISO 6892-1 Method A, Rp0.2 and Rt0.5
     const auto truth = nlohmann::json::parse(read_file(spec.truth(dir)));
-    Analyzer analyzer({truth.at("S0_mm2").get<double>(), truth.at("L0_mm").get<double>(), 0.0}, profile);
+    const SpecimenGeometry geometry{truth.at("S0_mm2").get<double>(), truth.at("L0_mm").get<double>(), 0.0};
+    Analyzer analyzer(geometry, profile);
     std::vector<Event> events;
+    std::vector<Frame> frames;
+    frames.reserve(aligned.size());
     const double t0 = aligned.empty() ? 0.0 : aligned.front().frame.time_s;
     for (const auto& a : aligned) {
         Frame f = a.frame;
         f.time_s -= t0;  // times from the first frame, as the truth file counts them
         analyzer.push(f, events);
+        frames.push_back(f);
     }
     const Results results = analyzer.finish();
 
@@ -163,7 +167,7 @@ CaseRun run_case(const CaseSpec& spec, const std::filesystem::path& dir, double 
     flatten(j, "", flat);
     for (const auto& [k, v] : flat) out << "result " << k << " " << v << "\n";
     for (const auto& w : results.warnings) out << "warning " << w << "\n";
-    return {out.str(), j.dump(2)};
+    return {out.str(), j.dump(2), std::move(frames), events, results, geometry};
 }
 
 std::string compare_texts(const std::string& expected, const std::string& actual, double rel) {

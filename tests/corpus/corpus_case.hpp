@@ -11,6 +11,11 @@
 #include <string>
 #include <vector>
 
+#include "engine/event.hpp"
+#include "engine/frame.hpp"
+#include "engine/results.hpp"
+#include "engine/specimen.hpp"
+
 namespace tensile::corpus {
 
 struct CaseSpec {
@@ -33,6 +38,10 @@ std::string rig_config_text(const std::string& format);
 struct CaseRun {
     std::string text;      // the expectation text (see corpus_case.cpp for its layout)
     std::string results_json;  // results as tensilectl analyze --json keys
+    std::vector<Frame> frames;  // as fed to the analyzer (times from the first frame)
+    std::vector<Event> events;
+    Results results;
+    SpecimenGeometry geometry{};
 };
 
 // Feeds the stream through FramePipeline and Analyzer. Arrival times are
