@@ -116,18 +116,27 @@ CaseRun run_case(const CaseSpec& spec, const std::filesystem::path& dir, double 
     const DaemonConfig config = load_daemon_config_text(rig_config_text(spec.format), dir);
     FramePipeline pipeline(config);
 
+    const auto truth = nlohmann::json::parse(read_file(spec.truth(dir)));
+    // A stall fault holds the bytes back and lets them go at once when it
+    // ends; the file cannot show that, so its reads are stamped that way here.
+    std::vector<std::pair<double, double>> stalls;
+    for (const auto& f : truth.value("faults", nlohmann::json::array()))
+        if (f.value("kind", "") == "stall")
+            stalls.emplace_back(f.at("start_s").get<double>(), f.at("start_s").get<double>() + f.at("duration_s").get<double>());
+
     // A serial read delivers a few hundred bytes at a time; arrival times grow
     // at the stream's mean byte rate so the time base sees a steady link.
     constexpr std::size_t chunk = 512;
     std::vector<drivers::AlignedFrame> aligned;
     for (std::size_t at = 0; at < bytes.size(); at += chunk) {
         const std::size_t n = std::min(chunk, bytes.size() - at);
-        const double arrival = duration_s * static_cast<double>(at + n) / static_cast<double>(bytes.size());
+        double arrival = duration_s * static_cast<double>(at + n) / static_cast<double>(bytes.size());
+        for (const auto& [from, to] : stalls)
+            if (arrival >= from && arrival < to) arrival = to;
         pipeline.feed(0, std::as_bytes(std::span(bytes.data() + at, n)), arrival, aligned);
     }
 
     Profile profile;  // defaults: ISO 6892-1 Method A, Rp0.2 and Rt0.5
-    const auto truth = nlohmann::json::parse(read_file(spec.truth(dir)));
     const SpecimenGeometry geometry{truth.at("S0_mm2").get<double>(), truth.at("L0_mm").get<double>(), 0.0};
     Analyzer analyzer(geometry, profile);
     std::vector<Event> events;
