@@ -13,6 +13,7 @@
 #include "commands.hpp"
 #include "material_file.hpp"
 #include "presets.hpp"
+#include "replay.hpp"
 #include "run.hpp"
 #include "truth.hpp"
 #include "truth_json.hpp"
@@ -58,6 +59,7 @@ std::optional<std::string> line_end_of(const std::string& name) {
 
 int main(int argc, char** argv) {
     std::signal(SIGPIPE, SIG_IGN);  // a reader that leaves is handled as a write error
+    if (argc > 1 && std::string_view(argv[1]) == "replay") return tensile::sim::replay_main(argc - 1, argv + 1);
     CLI::App app{"tensile-sim: a virtual tensile-testing rig that streams our wire formats and writes the exact answers of the test it plays.\n"
                  "A simulation only: it is no interlock and no substitute for the frame's own limits and emergency stop."};
     app.set_version_flag("--version", std::string(TENSILED_VERSION));

@@ -5,6 +5,7 @@
 
 #include "analyze_command.hpp"
 #include "daemon_commands.hpp"
+#include "report_commands.hpp"
 #include "verify_command.hpp"
 
 int main(int argc, char** argv) {
@@ -16,6 +17,7 @@ int main(int argc, char** argv) {
     tensile::ctl::add_verify_command(app, exit_code);
     tensile::ctl::add_daemon_commands(app, exit_code);
     tensile::ctl::add_watch_command(app, exit_code);
+    tensile::ctl::add_report_commands(app, exit_code);
     try {
         app.parse(argc, argv);
     } catch (const CLI::ParseError& e) {

@@ -1,0 +1,109 @@
+// Every corpus case stored as a run in a fresh database, the way the recorder
+// leaves one (frames, events, results, SHA-256 at the close): `verify` must
+// find it identical, a changed result must be a mismatch on its row, and
+// `report` must give a self-contained HTML record with a drawn curve.
+// The raw bytes are not stored here (no arrival times of a live link), so
+// these runs are verified from their frames, as imported runs are.
+#include <catch2/catch.hpp>
+
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <unistd.h>
+
+#include <nlohmann/json.hpp>
+
+#include "corpus_case.hpp"
+#include "daemon/offline/results_json.hpp"
+#include "daemon/offline/specimen_json.hpp"
+#include "daemon/report/run_report.hpp"
+#include "daemon/storage/frame_codec.hpp"
+#include "daemon/storage/store.hpp"
+#include "daemon/verify/run_verifier.hpp"
+
+using namespace tensile;
+using namespace tensile::corpus;
+namespace fs = std::filesystem;
+
+namespace {
+
+const fs::path corpus_dir = fs::path(TENSILE_SOURCE_DIR) / "tests" / "corpus";
+
+std::string slurp(const fs::path& p) {
+    std::ifstream in(p, std::ios::binary);
+    std::ostringstream s;
+    s << in.rdbuf();
+    return s.str();
+}
+
+std::int64_t store_case(storage::Store& store, const CaseSpec& spec, const CaseRun& run, const nlohmann::json& truth) {
+    storage::NewRun n;
+    nlohmann::json specimen{{"S0_mm2", run.geometry.S0_mm2}, {"L0_mm", run.geometry.L0_mm}, {"label", spec.name},
+                            {"material", truth.value("description", spec.name)}};
+    n.specimen_json = specimen.dump();
+    n.material = truth.value("description", spec.name);
+    n.profile_json = to_json(Profile{}).dump();
+    n.state = storage::RunState::running;
+    n.cause = "corpus case";
+    n.created_unix_s = 1.7e9;
+    auto id = store.create_run(n);
+    REQUIRE(id);
+    constexpr std::size_t per_chunk = 4096;
+    for (std::size_t at = 0, seq = 0; at < run.frames.size(); at += per_chunk, ++seq) {
+        const std::size_t count = std::min(per_chunk, run.frames.size() - at);
+        const std::span<const Frame> part(run.frames.data() + at, count);
+        storage::FrameChunkRow row;
+        row.run_id = *id;
+        row.seq = static_cast<std::int64_t>(seq);
+        row.first_index = static_cast<std::int64_t>(at);
+        row.frame_count = static_cast<std::int64_t>(count);
+        row.first_time_s = part.front().time_s;
+        row.last_time_s = part.back().time_s;
+        row.data = storage::encode_frames(part);
+        REQUIRE(store.write_frame_chunk(row));
+    }
+    for (const auto& e : run.events) REQUIRE(store.add_event(*id, e));
+    REQUIRE(store.set_results(*id, run.results));
+    REQUIRE(store.finish_run(*id, storage::RunState::finished, "corpus case stored", 1.7e9 + 100));
+    return *id;
+}
+
+}  // namespace
+
+TEST_CASE("corpus: every case stored as a run verifies identical and gets a report") {
+    const fs::path dir = fs::temp_directory_path() / ("tensiled-corpus-store-" + std::to_string(::getpid()));
+    fs::remove_all(dir);
+    fs::create_directories(dir);
+    auto store = storage::Store::open((dir / "corpus.db").string());
+    REQUIRE(store);
+    for (const auto& c : load_cases(corpus_dir / "cases.txt")) {
+        DYNAMIC_SECTION(c.name) {
+            const auto truth = nlohmann::json::parse(slurp(c.truth(corpus_dir)));
+            const auto run = run_case(c, corpus_dir, truth.at("times").at("end_s").get<double>());
+            const auto id = store_case(*store, c, run, truth);
+
+            const auto report = verify_run(*store, id);
+            INFO(report_text(report));
+            CHECK(report.outcome == "identical");
+
+            auto html = report::html_report(*store, id, {});
+            REQUIRE(html);
+            CHECK_THAT(*html, Catch::Contains("<svg") && Catch::Contains("class=\"trace\"") &&
+                                  Catch::Contains("no interlock") && !Catch::Contains("<script") &&
+                                  !Catch::Contains("href="));
+            // The curve is drawn: its polyline has many points.
+            const auto at = html->find("class=\"trace\"");
+            const auto pts = html->find("points=\"", at);
+            const auto end = html->find('"', pts + 8);
+            CHECK(std::count(html->begin() + static_cast<long>(pts), html->begin() + static_cast<long>(end), ',') > 500);
+        }
+    }
+    // A stored result moved after the fact: verify names its row.
+    REQUIRE(store->db().exec("UPDATE runs SET results = json_set(results, '$.Rm_MPa', json_extract(results, '$.Rm_MPa') + 2) WHERE id = 1"));
+    const auto moved = verify_run(*store, 1);
+    CHECK(moved.outcome == "mismatch");
+    bool named = false;
+    for (const auto& r : moved.rows) named = named || (r.quantity == "Rm_MPa" && !r.ok);
+    CHECK(named);
+    fs::remove_all(dir);
+}
