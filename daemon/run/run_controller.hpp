@@ -100,6 +100,7 @@ public:
     [[nodiscard]] const Analyzer* analyzer() const { return analyzer_ ? &*analyzer_ : nullptr; }
     [[nodiscard]] std::optional<Results> results();
     [[nodiscard]] double armed_at() const { return armed_at_; }
+    [[nodiscard]] bool tare_taken() const { return state_ == RunState::running || (state_ == RunState::armed && tare_seen_ >= settings_.tare_frames); }
     // Offsets taken at arming (force N, extension mm, crosshead mm); valid once running.
     [[nodiscard]] const double* tare() const { return tare_; }
 

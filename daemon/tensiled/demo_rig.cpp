@@ -82,7 +82,8 @@ DemoRig::DemoRig(boost::asio::io_context& io, RigService& rig, std::filesystem::
       data_dir_(std::move(data_dir)),
       log_(std::move(log)),
       operator_(io),
-      pause_(io) {}
+      pause_(io),
+      tare_watch_(io) {}
 
 DemoRig::~DemoRig() {
     if (child_ > 0) {
@@ -116,8 +117,10 @@ void DemoRig::play_next() {
 void DemoRig::spawn(const DemoSpecimen& s) {
     const std::string endpoint = "127.0.0.1:" + std::to_string(sim_port_);
     const std::string speed = std::to_string(speed_);
+    // The frame waits, held, until the daemon has taken its tare, as an
+    // operator arms first and then starts the frame.
     std::vector<std::string> args{simulator_.string(), "--material", s.material, "--tcp", endpoint, "--realtime",
-                                  "--speed", speed, "--format", "lines", "--after-end", "2",
+                                  "--speed", speed, "--format", "lines", "--after-end", "2", "--at", "0:hold",
                                   "--truth", (data_dir_ / ("demo-truth-" + std::to_string(next_) + ".json")).string()};
     if (fast_rate_hz_ > 0) {
         // Replace the pacing: --fast at the given sample rate.
@@ -143,6 +146,17 @@ void DemoRig::spawn(const DemoSpecimen& s) {
     }
     child_ = pid;
     log_->info("demo: specimen {} of {}: {} ({})", next_, queue_.size(), s.material, s.description);
+    start_when_tared();
+}
+
+void DemoRig::start_when_tared() {
+    tare_watch_.expires_after(std::chrono::milliseconds(20));
+    tare_watch_.async_wait([this](const boost::system::error_code& ec) {
+        if (ec) return;
+        if (!rig_.controller().tare_taken()) return start_when_tared();
+        log_->info("demo operator: tare taken, starting the frame");
+        rig_.send_command("resume");
+    });
 }
 
 void DemoRig::on_extensometer_alert() {

@@ -59,6 +59,7 @@ private:
     void play_next();
     void spawn(const DemoSpecimen& s);
     void reap();
+    void start_when_tared();
 
     boost::asio::io_context& io_;
     RigService& rig_;
@@ -73,7 +74,7 @@ private:
     double fast_rate_hz_ = 0;
     std::size_t next_ = 0;
     int child_ = -1;
-    boost::asio::steady_timer operator_, pause_;
+    boost::asio::steady_timer operator_, pause_, tare_watch_;
 };
 
 }  // namespace tensile
