@@ -39,6 +39,7 @@ public:
 
     void start();
     void stop();
+    void reset_time_bases() { pipeline_.reset_time_bases(); }
 
     [[nodiscard]] std::shared_ptr<drivers::ByteSource> source(const std::string& name) const;
     // Device messages (`#` lines) of a source go here too (command acknowledgements).

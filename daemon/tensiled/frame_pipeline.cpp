@@ -33,7 +33,7 @@ FramePipeline::FramePipeline(const DaemonConfig& config) : aligner_(aligner_conf
     for (const auto& sc : config.drivers.sources) {
         const auto* format = formats.find(sc.format.format);
         if (!format) throw std::runtime_error("source." + sc.name + ": no parser for format '" + sc.format.format + "'");
-        Stream s{sc.name, format->make(sc.format), drivers::TimeBase(sc.time), {}, {}, {}};
+        Stream s{sc.name, sc.time, format->make(sc.format), drivers::TimeBase(sc.time), {}, {}, {}};
         for (const auto& ch : sc.format.channels) s.roles.push_back(role_of(ch.name));
         streams_.push_back(std::move(s));
     }
@@ -44,6 +44,10 @@ FramePipeline::FramePipeline(const DaemonConfig& config) : aligner_(aligner_conf
             for (auto& h : raw->message_handlers) h(line);
         });
     }
+}
+
+void FramePipeline::reset_time_bases() {
+    for (auto& s : streams_) s.time = drivers::TimeBase(s.time_config);
 }
 
 int FramePipeline::source_index(std::string_view name) const {

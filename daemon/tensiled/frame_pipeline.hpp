@@ -33,6 +33,10 @@ public:
     // became decidable to `out`.
     void feed(std::size_t i, std::span<const std::byte> bytes, double arrival_s,
               std::vector<drivers::AlignedFrame>& out);
+    // Every source's clock mapping starts afresh (at arming: devices are often
+    // restarted or swapped between specimens, and a run should not inherit a
+    // mapping fitted to a clock that is gone).
+    void reset_time_bases();
     // The link of source `i` broke: a partial record is dropped.
     void break_stream(std::size_t i) { streams_[i].parser->break_stream(); }
     // `#` lines of source `i` go to `handler` as well.
@@ -43,6 +47,7 @@ public:
 private:
     struct Stream {
         std::string name;
+        drivers::TimeBaseConfig time_config;
         std::unique_ptr<drivers::Parser> parser;
         drivers::TimeBase time;
         std::vector<int> roles;  // per parser channel; -1: not framed

@@ -73,6 +73,7 @@ Result<bool> RigService::arm(const Specimen& specimen, const std::string& profil
     step_.clear();
     const double now = now_s();
     auto armed = controller_.arm(*geometry, found->second, now, step_);
+    if (armed) acquisition_.reset_time_bases();
     if (!armed) return armed;
     run_ = RunInfo{++runs_, specimen, *geometry, name, now};
     log_->info("run {} armed: {} (S0 {:.3f} mm², L0 {:.2f} mm), profile {}", run_->number, specimen.label,
