@@ -111,6 +111,9 @@ SourceConfig load_source(const toml::table& t, const std::string& path, const Pa
     f.keep_nan = r.flag("keep_nan").value_or(false);
 
     s.time.latency_s = r.number("latency_ms", 0, 10000, "the smallest transport delay in milliseconds, 0 to 10000").value_or(0) * ms;
+    s.time.clock_pace = r.number("clock_pace", 0.001, 1000,
+                                 "device seconds per real second, 1 for real instruments (a simulator may run faster)")
+                            .value_or(1.0);
     s.time.clock_bits = info->device_clock_bits;
     s.time.nominal_rate_hz = f.nominal_rate_hz;
 

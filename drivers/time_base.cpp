@@ -36,9 +36,10 @@ double TimeBase::device_seconds(const Sample& s) {
         extended_ = raw;
     }
     last_raw_ = raw;
+    const double pace = cfg_.clock_pace > 0 ? cfg_.clock_pace : 1.0;
     if (s.stamp_kind == Stamp::counter)
-        return cfg_.nominal_rate_hz > 0 ? static_cast<double>(extended_) / cfg_.nominal_rate_hz : 0.0;
-    return static_cast<double>(extended_) * 1e-6;
+        return cfg_.nominal_rate_hz > 0 ? static_cast<double>(extended_) / cfg_.nominal_rate_hz / pace : 0.0;
+    return static_cast<double>(extended_) * 1e-6 / pace;
 }
 
 void TimeBase::observe(double d, double offset) {

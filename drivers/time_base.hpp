@@ -26,6 +26,10 @@ struct TimeBaseConfig {
     double latency_s = 0.0;        // smallest transport delay of this source (subtracted)
     unsigned clock_bits = 64;      // the device µs clock wraps at 2^clock_bits (binary format: 32)
     double nominal_rate_hz = 0.0;  // for counter stamps
+    // Device seconds per host second when a device deliberately runs its clock
+    // at another pace (a simulator replaying faster than real time); 1 for
+    // every real instrument. The drift fit is for ppm-sized drift only.
+    double clock_pace = 1.0;
     double bucket_s = 1.0;         // device-time width of one envelope bucket
     std::size_t buckets = 30;      // buckets kept for the drift fit (bounded window)
 };

@@ -51,7 +51,8 @@ std::vector<DemoSpecimen> list_demo_specimens(const std::filesystem::path& simul
     return out;
 }
 
-std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_t sim_port, std::uint16_t monitor_port) {
+std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_t sim_port, std::uint16_t monitor_port,
+                             double pace) {
     std::ostringstream t;
     t << "# The embedded demo rig: tensile-sim on loopback TCP, commands on the same link.\n"
       << "[daemon]\ndata_dir = \"" << data_dir.string() << "\"\n"
@@ -61,7 +62,7 @@ std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_
       << "[profile.demo]\nproof_offsets_pct = [0.2]\ntotal_extensions_pct = [0.5]\npreload_N = 20\nsettle_s = 1\n"
       << "  [profile.demo.handover]\n  when = \"after-yield\"\n  hold = true\n"
       << "[source.frame]\nkind = \"tcp\"\nhost = \"127.0.0.1\"\nport = " << sim_port << "\n"
-      << "retry_min_ms = 100\nretry_max_ms = 500\nformat = \"lines\"\ntime_field = 0\n"
+      << "retry_min_ms = 100\nretry_max_ms = 500\nformat = \"lines\"\ntime_field = 0\nclock_pace = " << pace << "\n"
       << "  [[source.frame.channel]]\n  name = \"force\"\n  unit = \"N\"\n  field = 1\n"
       << "  [[source.frame.channel]]\n  name = \"extension\"\n  unit = \"mm\"\n  field = 2\n"
       << "  [[source.frame.channel]]\n  name = \"crosshead\"\n  unit = \"mm\"\n  field = 3\n"

@@ -33,7 +33,9 @@ struct DemoSpecimen {
 std::vector<DemoSpecimen> list_demo_specimens(const std::filesystem::path& simulator);
 
 // The demo rig's config text (one TCP source on 127.0.0.1:port, commands on it).
-std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_t sim_port, std::uint16_t monitor_port);
+// `pace`: simulated seconds per real second (the simulator's clock runs at it).
+std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_t sim_port, std::uint16_t monitor_port,
+                             double pace = 1.0);
 
 class DemoRig {
 public:

@@ -211,7 +211,7 @@ int main(int argc, char** argv) {
     try {
         if (demo) {
             const auto dir = std::filesystem::absolute(data_dir);
-            config = tensile::load_daemon_config_text(tensile::demo_config_text(dir, free_port(), 8470), dir);
+            config = tensile::load_daemon_config_text(tensile::demo_config_text(dir, free_port(), 8470, demo_speed), dir);
             // The demo keeps its monitor token beside its database (created owner-only).
             config.monitor.token_file = dir / "monitor.token";
         } else {
