@@ -66,53 +66,11 @@ HeaderColumn understand(std::string_view raw) {
     return c;
 }
 
-// Decimal numbers as recorders write them ("-123.4567"): digits into an
-// integer, then one exact division by a power of ten, which is correctly
-// rounded while the digits fit in 2^53 (Clinger's fast path). Anything else
-// (exponents, long mantissas) goes to std::from_chars.
-bool parse_number(std::string_view cell, bool decimal_comma, double& out) {
-    if (cell.empty()) {
-        out = absent;
-        return true;
-    }
-    static constexpr double powers[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
-                                        1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
-    const char* p = cell.data();
-    const char* end = p + cell.size();
-    const char point = decimal_comma ? ',' : '.';
-    bool negative = false;
-    if (*p == '-' || *p == '+') negative = *p++ == '-';
-    std::uint64_t mantissa = 0;
-    int digits = 0, fraction = -1;
-    for (; p < end; ++p) {
-        const unsigned d = static_cast<unsigned>(*p - '0');
-        if (d < 10) {
-            mantissa = mantissa * 10 + d;
-            ++digits;
-            if (fraction >= 0) ++fraction;
-        } else if (*p == point && fraction < 0) {
-            fraction = 0;
-        } else {
-            break;
-        }
-    }
-    if (p == end && digits > 0 && digits <= 15) {
-        const double v = static_cast<double>(mantissa) / powers[fraction < 0 ? 0 : fraction];
-        out = negative ? -v : v;
-        return true;
-    }
-    char buf[64];
-    if (cell.size() >= sizeof buf) return false;
-    std::size_t n = 0;
-    for (char c : cell) buf[n++] = decimal_comma && c == ',' ? '.' : c;
-    const char* first = buf;
-    if (*first == '+') ++first;
-    auto [ptr, ec] = std::from_chars(first, buf + n, out);
-    return ec == std::errc() && ptr == buf + n && std::isfinite(out);
-}
-
-// The common case without copying: a plain decimal number ending at the
-// separator or the row end. False sends the cell to the careful path.
+// The common case without copying: a plain decimal number ("-123.4567")
+// ending at the separator or the row end. Digits go into an integer and one
+// exact division by a power of ten gives the correctly rounded value while the
+// digits fit in 2^53 (Clinger's fast path). False sends the cell to the
+// careful path.
 inline bool parse_fast(const char* p, const char* end, char sep, bool decimal_comma, double& out, const char*& stop) {
     static constexpr double powers[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
                                         1e12, 1e13, 1e14, 1e15};
@@ -146,6 +104,21 @@ inline bool parse_fast(const char* p, const char* end, char sep, bool decimal_co
     }
     stop = p;
     return true;
+}
+
+// Any cell: the fast path below, then std::from_chars for what it leaves
+// (exponents, long mantissas), which also refuses nan and inf.
+bool parse_number(std::string_view cell, bool decimal_comma, double& out) {
+    const char* stop = nullptr;
+    if (parse_fast(cell.data(), cell.data() + cell.size(), '\0', decimal_comma, out, stop)) return true;
+    char buf[64];
+    if (cell.size() >= sizeof buf) return false;
+    std::size_t n = 0;
+    for (char c : cell) buf[n++] = decimal_comma && c == ',' ? '.' : c;
+    const char* first = buf;
+    if (*first == '+') ++first;
+    auto [ptr, ec] = std::from_chars(first, buf + n, out);
+    return ec == std::errc() && ptr == buf + n && std::isfinite(out);
 }
 
 std::string show(std::string_view cell) {
