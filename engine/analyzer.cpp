@@ -35,20 +35,13 @@ void Analyzer::push(const Frame& frame, std::vector<Event>& events) {
         ++frames_skipped_;
         return;
     }
+    note_force_noise(frame.force_N);
     const double ext = effective_extension(frame, events);
     const double strain = ext / geometry_.L0_mm;
     const double stress = frame.force_N / geometry_.S0_mm2;
     history_.append(frame.time_s, frame.force_N, strain, stress, lost_at_ ? absent : frame.extension_mm,
                     frame.crosshead_mm);
     const std::size_t i = history_.size() - 1;
-    if (i >= 2) {
-        // Force noise from second differences (smooth signals have almost none);
-        // a slow average so a single step (a yield drop) barely moves it.
-        const auto& F = history_.force_N;
-        const double d2 = std::abs(F[i] - 2.0 * F[i - 1] + F[i - 2]);
-        const double clipped = i < 64 ? d2 : std::min(d2, 10.0 * force_d2_mean_);
-        force_d2_mean_ += (clipped - force_d2_mean_) / std::min<double>(static_cast<double>(i - 1), 1000.0);
-    }
 
     if (std::isfinite(strain)) {
         follow_modulus(i, events);
@@ -57,6 +50,39 @@ void Analyzer::push(const Frame& frame, std::vector<Event>& events) {
     }
     follow_max_force(i, events);
     follow_break(i, events);
+    if (history_.size() >= row_limit_) compact_history();
+}
+
+// Force noise from second differences of the raw frames (smooth signals have
+// almost none); a slow average so a single step (a yield drop) barely moves it.
+void Analyzer::note_force_noise(double force_N) {
+    const std::size_t i = forces_noted_++;
+    if (i >= 2) {
+        const double d2 = std::abs(force_N - 2.0 * last_force_[1] + last_force_[0]);
+        const double clipped = i < 64 ? d2 : std::min(d2, 10.0 * force_d2_mean_);
+        force_d2_mean_ += (clipped - force_d2_mean_) / std::min<double>(static_cast<double>(i - 1), 1000.0);
+    }
+    last_force_[0] = last_force_[1];
+    last_force_[1] = force_N;
+}
+
+// Older rows merged, the newest quarter of the limit kept frame by frame:
+// every row index held anywhere moves to where its row went.
+void Analyzer::compact_history() {
+    const RowMap map = history_.compact(row_limit_ / 2, row_limit_ / 4);
+    auto relocate = [&map](std::size_t& row) { row = map(row); };
+    if (lost_at_) relocate(*lost_at_);
+    if (modulus_) {
+        relocate(modulus_->first);
+        relocate(modulus_->last);
+    }
+    relocate(next_fit_at_);
+    relocate(max_index_);
+    if (onset_reported_) relocate(*onset_reported_);
+    if (same_reading_since_) relocate(*same_reading_since_);
+    yield_.on_history_compacted(map);
+    breaker_.on_history_compacted(map);
+    rates_.on_history_compacted(map);
 }
 
 void Analyzer::note_extensometer_removed(std::vector<Event>& events) {
@@ -85,20 +111,60 @@ double Analyzer::effective_extension(const Frame& frame, std::vector<Event>& eve
                                        : 0.0;
             if (jump > limit && jump > 2.0 * xh_move) why = "extensometer reading jumped";
         }
-        if (!why) {
+        if (!why && reading_froze(frame)) {
+            const std::size_t since = *same_reading_since_;
+            warnings_.push_back("extensometer reading froze at " + std::to_string(history_.time_s[since]) +
+                                " s: it repeated one value while the crosshead moved under load; strain from "
+                                "there on comes from the crosshead");
+            lose_extensometer_from(since, "extensometer reading froze", events);
+        } else if (!why) {
             last_extension_mm_ = ext;
             if (std::isfinite(frame.crosshead_mm)) last_crosshead_mm_ = frame.crosshead_mm;
             return ext;
+        } else {
+            lose_extensometer(why, events);
         }
-        lose_extensometer(why, events);
     }
     if (!crosshead_ || !std::isfinite(frame.crosshead_mm)) return absent;
     return crosshead_->extension_mm(frame.crosshead_mm, frame.force_N);
 }
 
+// True once the extensometer has repeated one reading exactly for a while
+// during which the crosshead moved under load. A working extensometer's last
+// digit moves with any strain (and with its own noise), so this is a stuck
+// sensor or a channel repeating its last value. The load condition keeps the
+// slack at the start, where the specimen is not yet stretched, out of it.
+bool Analyzer::reading_froze(const Frame& frame) {
+    if (history_.empty() || frame.extension_mm != last_extension_mm_) {
+        same_reading_since_.reset();
+        return false;
+    }
+    if (!same_reading_since_) {
+        same_reading_since_ = history_.size();  // the row this frame becomes
+        crosshead_when_stuck_mm_ = last_crosshead_mm_;
+        return false;
+    }
+    constexpr std::size_t min_repeats = 16;
+    if (!modulus_ || history_.size() - *same_reading_since_ < min_repeats) return false;
+    const double highest_force = history_.running_max.back() * geometry_.S0_mm2;
+    if (!(frame.force_N > 0.1 * highest_force)) return false;
+    // 0.1 % of L0 of crosshead travel: tens of counts of any extensometer of
+    // ISO 9513 class 1 or better, even with most of the travel in the frame.
+    return std::abs(frame.crosshead_mm - crosshead_when_stuck_mm_) > 0.001 * geometry_.L0_mm;
+}
+
 void Analyzer::lose_extensometer(const char* why, std::vector<Event>& events) {
+    lose_extensometer_from(history_.size(), why, events);
+}
+
+// The extensometer is taken as lost from row `row` on (earlier than now when
+// its last readings turned out to be stale): rows from there are rewritten
+// with the crosshead's strain.
+void Analyzer::lose_extensometer_from(std::size_t row, const char* why, std::vector<Event>& events) {
     const std::size_t n = history_.size();
-    lost_at_ = n;
+    row = std::min(row, n);
+    if (n > 0) row = std::max<std::size_t>(row, 1);
+    lost_at_ = row;
     const double fallback_a = geometry_.Lc_mm > 0 ? geometry_.Lc_mm / geometry_.L0_mm : 1.0;
     if (n == 0) {
         // No extensometer from the start: strain from the crosshead alone.
@@ -110,29 +176,39 @@ void Analyzer::lose_extensometer(const char* why, std::vector<Event>& events) {
     if (!modulus_locked_ && modulus_) {
         warnings_.push_back(std::string("extensometer lost before the modulus settled (") + why +
                             "); E taken from the data so far");
-        lock_modulus(n - 1, events);
+        lock_modulus(row - 1, events);
     }
-    std::size_t first = modulus_ ? modulus_->first : 0;
-    crosshead_ = fit_crosshead_model(history_.extension_mm, history_.crosshead_mm, history_.force_N, first, n,
+    std::size_t first = modulus_ ? std::min(modulus_->first, row) : 0;
+    crosshead_ = fit_crosshead_model(history_.extension_mm, history_.crosshead_mm, history_.force_N, first, row,
                                      fallback_a);
-    events.push_back(make_event(EventKind::extensometer_lost, n - 1, n - 1, 0, why));
+    events.push_back(make_event(EventKind::extensometer_lost, row - 1, n - 1, 0, why));
     if (!crosshead_) {
-        warnings_.push_back(std::string("extensometer lost at ") + std::to_string(history_.time_s.back()) +
+        for (std::size_t k = row; k < n; ++k) history_.extension_mm[k] = history_.strain[k] = absent;
+        warnings_.push_back(std::string("extensometer lost at ") + std::to_string(history_.time_s[row - 1]) +
                             " s with no crosshead to carry strain on; strain results after it are missing");
         return;
     }
     // Continuity: the crosshead estimate starts where the extensometer left off.
-    for (std::size_t k = n; k-- > first;) {
+    for (std::size_t k = row; k-- > first;) {
         if (std::isfinite(history_.extension_mm[k]) && std::isfinite(history_.crosshead_mm[k])) {
             crosshead_->shift_mm =
                 history_.extension_mm[k] - crosshead_->extension_mm(history_.crosshead_mm[k], history_.force_N[k]);
             break;
         }
     }
+    for (std::size_t k = row; k < n; ++k) {
+        history_.extension_mm[k] = absent;
+        history_.strain[k] = std::isfinite(history_.crosshead_mm[k])
+                                 ? crosshead_->extension_mm(history_.crosshead_mm[k], history_.force_N[k]) /
+                                       geometry_.L0_mm
+                                 : absent;
+    }
+    // An offset strength the stuck readings hid may lie in the rewritten rows.
+    if (modulus_locked_ && !all_offsets_found_ && row < n) scan_offsets(row, n, events);
     char note[200];
     std::snprintf(note, sizeof note,
                   "strain from %.4g %% on comes from the crosshead (%s, compliance %.3g mm/kN)",
-                  100.0 * (history_.strain.back() - toe()), crosshead_->from_fit ? "fitted" : "Lc/L0 ratio",
+                  100.0 * (history_.strain[row - 1] - toe()), crosshead_->from_fit ? "fitted" : "Lc/L0 ratio",
                   crosshead_->C * 1000.0);
     crosshead_note_ = note;  // reported by finish() unless the loss came with the break
 }
@@ -299,7 +375,7 @@ void Analyzer::follow_rate(std::size_t i, std::vector<Event>& events) {
 Event Analyzer::make_event(EventKind kind, std::size_t at, std::size_t known, double value, std::string label) const {
     Event e{kind, 0, 0, 0, 0, 0, {}};
     e.time_s = history_.time_s[known];
-    e.frame = known;
+    e.frame = frames_seen_ - 1;  // the input frame being taken in (rows may stand for several)
     e.stress_MPa = history_.stress_MPa[at];
     e.strain = history_.strain[at] - toe();
     e.value = value;

@@ -9,6 +9,7 @@
 // here throws on data.
 #pragma once
 
+#include <algorithm>
 #include <cstddef>
 #include <optional>
 #include <string>
@@ -42,8 +43,15 @@ class Analyzer {
 public:
     Analyzer(SpecimenGeometry geometry, Profile profile);
 
+    // Rows the history keeps before it merges older ones (History::compact):
+    // 2^18 rows of 56 bytes, about 15 MB, whatever the length of the run.
+    static constexpr std::size_t default_row_limit = std::size_t{1} << 18;
+
     // Sizes the history for a run of about this many frames (optional).
-    void reserve(std::size_t frames) { history_.reserve(frames); }
+    void reserve(std::size_t frames) { history_.reserve(std::min(frames, row_limit_)); }
+
+    // A smaller row limit (at least 256), for tests of long runs.
+    void limit_rows(std::size_t rows) { row_limit_ = std::max<std::size_t>(rows, 256); }
 
     // Feeds one frame; appends the events it makes known to `events`.
     void push(const Frame& frame, std::vector<Event>& events);
@@ -65,6 +73,10 @@ public:
 private:
     double effective_extension(const Frame& frame, std::vector<Event>& events);
     void lose_extensometer(const char* why, std::vector<Event>& events);
+    void lose_extensometer_from(std::size_t row, const char* why, std::vector<Event>& events);
+    bool reading_froze(const Frame& frame);
+    void compact_history();
+    void note_force_noise(double force_N);
     void follow_modulus(std::size_t i, std::vector<Event>& events);
     void lock_modulus(std::size_t i, std::vector<Event>& events);
     void scan_offsets(std::size_t from, std::size_t to, std::vector<Event>& events);
@@ -85,10 +97,13 @@ private:
     SpecimenGeometry geometry_;
     Profile profile_;
     History history_;
+    std::size_t row_limit_ = default_row_limit;
     std::size_t frames_seen_ = 0;
     std::size_t frames_skipped_ = 0;
     std::vector<std::string> warnings_;
     double force_d2_mean_ = 0;
+    double last_force_[2] = {};     // the two previous raw forces, for the noise estimate
+    std::size_t forces_noted_ = 0;
 
     // Extensometer and hand-over.
     bool removal_requested_ = false;
@@ -96,6 +111,10 @@ private:
     std::optional<CrossheadModel> crosshead_;
     double last_extension_mm_ = absent;
     double last_crosshead_mm_ = absent;
+    // A reading repeated exactly while the crosshead moves under load is a
+    // stuck extensometer: the row where the repeats began, and the crosshead there.
+    std::optional<std::size_t> same_reading_since_;
+    double crosshead_when_stuck_mm_ = absent;
     std::string crosshead_note_;
 
     // Modulus: provisional until the curve departs from it, then locked.

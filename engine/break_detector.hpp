@@ -22,6 +22,13 @@ public:
     // `max_force_N`: the highest force so far.
     Step update(const History& h, std::size_t i, double max_force_N);
 
+    // The history merged rows (History::compact): row k is now map(k).
+    void on_history_compacted(const RowMap& map) {
+        tail_ = map(tail_);
+        if (onset_) *onset_ = map(*onset_);
+        if (fracture_) *fracture_ = map(*fracture_);
+    }
+
     [[nodiscard]] std::optional<std::size_t> onset_index() const { return onset_; }
     [[nodiscard]] std::optional<std::size_t> fracture_index() const { return fracture_; }
 

@@ -23,6 +23,9 @@ public:
 
     Change update(const History& h, std::size_t i, RatePhase phase, RateCompliance (&compliance)[rate_phase_count]);
 
+    // The history merged rows (History::compact): row k is now map(k).
+    void on_history_compacted(const RowMap& map) { tail_ = map(tail_); }
+
     [[nodiscard]] std::optional<double> rate_per_s() const { return rate_; }
 
 private:

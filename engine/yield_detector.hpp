@@ -36,6 +36,14 @@ public:
     // At the end of a run still yielding: ReL from what was seen, Ae unknown.
     void finish(const History& history);
 
+    // The history merged rows (History::compact): row k is now map(k).
+    void on_history_compacted(const RowMap& map) {
+        peak_index_ = map(peak_index_);
+        if (!points_) return;
+        points_->upper_index = map(points_->upper_index);
+        if (points_->end_index) *points_->end_index = map(*points_->end_index);
+    }
+
     [[nodiscard]] const std::optional<YieldPoints>& points() const { return points_; }
     [[nodiscard]] bool yielding() const { return points_ && !points_->end_index; }
 

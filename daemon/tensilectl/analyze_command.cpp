@@ -141,9 +141,23 @@ public:
     MappedFile& operator=(const MappedFile&) = delete;
     [[nodiscard]] std::string_view text() const { return {static_cast<const char*>(data_), size_}; }
 
+    // Lets the kernel drop the pages before `offset` from this process's
+    // resident memory, so a long file read once never sits in memory whole.
+    // Safe even if they are read again: a read-only private mapping of a file
+    // pages back in from the file.
+    void release_before(std::size_t offset) {
+        static const auto page = static_cast<std::size_t>(::sysconf(_SC_PAGESIZE));
+        const std::size_t end = std::min(offset, size_) / page * page;
+        if (end > released_) {
+            ::madvise(static_cast<char*>(data_) + released_, end - released_, MADV_DONTNEED);
+            released_ = end;
+        }
+    }
+
 private:
     void* data_ = nullptr;
     std::size_t size_ = 0;
+    std::size_t released_ = 0;
 };
 
 struct AnalyzerSink : FrameSink {
@@ -151,6 +165,26 @@ struct AnalyzerSink : FrameSink {
     std::vector<Event>& events;
     AnalyzerSink(Analyzer& a, std::vector<Event>& e) : analyzer(a), events(e) {}
     void take(const Frame& f) override { analyzer.push(f, events); }
+};
+
+// Releases the file's pages behind the analysis as it goes. The reader runs
+// at most a few chunks ahead of the analyzer, so text more than a margin
+// behind the analyzer's estimated position is done with; a wrong estimate
+// only costs a page read again.
+struct ReleasingSink : FrameSink {
+    FrameSink& inner;
+    MappedFile& file;
+    double bytes_per_row;
+    std::size_t taken = 0;
+    ReleasingSink(FrameSink& s, MappedFile& f, std::size_t rows)
+        : inner(s), file(f), bytes_per_row(static_cast<double>(f.text().size()) / static_cast<double>(std::max<std::size_t>(rows, 1))) {}
+    void take(const Frame& f) override {
+        inner.take(f);
+        if (++taken % 65536 != 0) return;
+        constexpr double margin = 16.0 * 1024 * 1024;
+        const double done = static_cast<double>(taken) * bytes_per_row - margin;
+        if (done > 0) file.release_before(static_cast<std::size_t>(done));
+    }
 };
 
 int run(const AnalyzeOptions& o) {
@@ -161,11 +195,13 @@ int run(const AnalyzeOptions& o) {
     const auto profile = profile_from(o);
     const auto layout = layout_from(o);
 
-    const MappedFile file(o.file);
+    MappedFile file(o.file);
+    const std::size_t rows = estimate_rows(file.text());
     Analyzer analyzer(*geometry, profile);
-    analyzer.reserve(estimate_rows(file.text()));
+    analyzer.reserve(rows);
     std::vector<Event> events;
-    AnalyzerSink sink(analyzer, events);
+    AnalyzerSink analysing(analyzer, events);
+    ReleasingSink sink(analysing, file, rows);
     // Rows stream straight into the analyzer; on a bad row nothing is printed
     // but the message.
     auto table = scan_table_pipelined(file.text(), layout, sink);
