@@ -79,6 +79,7 @@ private:
     void note_force_noise(double force_N);
     void follow_modulus(std::size_t i, std::vector<Event>& events);
     void lock_modulus(std::size_t i, std::vector<Event>& events);
+    std::optional<ModulusFit> provisional_modulus(std::size_t n);
     void scan_offsets(std::size_t from, std::size_t to, std::vector<Event>& events);
     void follow_yield(std::size_t i, std::vector<Event>& events);
     void follow_max_force(std::size_t i, std::vector<Event>& events);
@@ -122,6 +123,7 @@ private:
     bool modulus_locked_ = false;
     std::size_t next_fit_at_ = 16;
     int departed_frames_ = 0;
+    std::vector<double> thin_strain_, thin_stress_, thin_max_;  // reused by provisional_modulus
     std::vector<bool> proof_found_, total_found_;
     bool all_offsets_found_ = false;
     std::vector<OffsetValue> proofs_, totals_;

@@ -27,6 +27,7 @@
 #include "demo_rig.hpp"
 #include "rig_service.hpp"
 #include "run_keeper.hpp"
+#include "service_notifier.hpp"
 
 namespace {
 
@@ -119,10 +120,12 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     observers.on_idle_frame = [&](const tensile::drivers::AlignedFrame& f) { feed.idle_frame(f); };
     rig.observe(observers);
 
+    tensile::ServiceNotifier service(io);
     boost::asio::signal_set signals(io, SIGINT, SIGTERM);
     signals.async_wait([&](const boost::system::error_code& ec, int signo) {
         if (ec) return;
         log->info("signal {}: finishing and exiting", signo);
+        service.stopping();
         if (tensile::live(rig.state())) (void)rig.abort_run("daemon stopped by signal");
         rig.stop();
         monitor.stop();
@@ -136,6 +139,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
             if (config.file.empty()) {
                 log->warn("SIGHUP: the demo rig has no config file to re-read");
             } else {
+                service.reloading();
                 try {
                     const auto fresh = tensile::load_daemon_config(config.file);
                     if (auto r = rig.reload(fresh); r)
@@ -146,6 +150,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
                 } catch (const std::exception& e) {
                     log->error("SIGHUP: {} refused, the running config stays: {}", config.file.string(), e.what());
                 }
+                service.ready();
             }
             wait_hangup();
         });
@@ -155,6 +160,9 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     monitor.start();
     // Tests and scripts read the address from this line.
     std::cout << "monitor http://" << config.monitor.listen << ':' << monitor.port() << "/\n" << std::flush;
+    service.ready();
+    if (service.watchdog_interval().count() > 0)
+        log->info("systemd watchdog: pinging every {} ms", service.watchdog_interval().count() / 2000);
     if (demo_rig) {
         std::cout << "demo: the simulator plays Harbourline Metals specimens on 127.0.0.1:"
                   << config.drivers.sources.front().tcp.port << "; results print as each run ends. Ctrl-C to stop.\n"

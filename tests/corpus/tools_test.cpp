@@ -34,44 +34,13 @@
 #include "daemon/storage/store.hpp"
 #include "daemon/tensiled/frame_pipeline.hpp"
 #include "engine/analyzer.hpp"
+#include "recorded_runs.hpp"
 #include "support/process.hpp"
 
 using namespace tensile;
 using namespace tensile::testing;
 namespace fs = std::filesystem;
 
-namespace {
-
-const fs::path& recorded() {
-    static const fs::path dir = [] {
-        const fs::path d = fs::temp_directory_path() / ("tensiled-corpus-tools-" + std::to_string(::getpid()));
-        fs::remove_all(d);
-        const auto ran = run_command("timeout 120 " + bin("tensiled") + " --demo --demo-speed 20 --demo-runs 2 --demo-data " +
-                                     d.string());
-        INFO(ran.out);
-        REQUIRE(ran.code == 0);
-        return d;
-    }();
-    return dir;
-}
-fs::path db() { return recorded() / "tensiled.db"; }
-
-std::string slurp(const fs::path& p) {
-    std::ifstream in(p, std::ios::binary);
-    std::ostringstream s;
-    s << in.rdbuf();
-    return s.str();
-}
-
-storage::Store open_db() {
-    storage::OpenOptions o;
-    o.create = false;
-    auto s = storage::Store::open(db().string(), o);
-    REQUIRE(s);
-    return std::move(*s);
-}
-
-}  // namespace
 
 TEST_CASE("tools: the error budget gives the published figures and adds up as a hand calculation") {
     using namespace tensile::report;
