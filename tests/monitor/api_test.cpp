@@ -127,6 +127,8 @@ TEST_CASE("the API answers every endpoint and refuses what it should") {
         CHECK_THAT(json::parse(wrong.body)["error"].get<std::string>(), Catch::Contains("wrong token"));
         CHECK(http(p, "POST", "/api/v1/start").status == 401);
         CHECK(http(p, "POST", "/api/v1/handover/confirm").status == 401);
+        CHECK(http(p, "POST", "/api/v1/tare").status == 401);
+        CHECK(http(p, "POST", "/api/v1/outputs/frame", R"({"send": "hold"})", "Bearer not-the-token-at-all").status == 401);
         CHECK(json::parse(http(p, "GET", "/api/v1/status").body)["state"] == "idle");
     }
 
@@ -158,6 +160,16 @@ TEST_CASE("the API answers every endpoint and refuses what it should") {
         CHECK(http(p, "POST", "/api/v1/stop", "", bearer).status == 409);
         CHECK(http(p, "POST", "/api/v1/abort", "", bearer).status == 409);
         CHECK(http(p, "POST", "/api/v1/handover/confirm", "", bearer).status == 409);
+
+        // No source connected: a tare would wait for frames that never come.
+        auto tare = http(p, "POST", "/api/v1/tare", "", bearer);
+        CHECK(tare.status == 409);
+        CHECK_THAT(json::parse(tare.body)["error"].get<std::string>(), Catch::Contains("no source is connected"));
+        // This rig has no outputs at all.
+        CHECK(json::parse(http(p, "GET", "/api/v1/outputs").body)["outputs"].empty());
+        auto output = http(p, "POST", "/api/v1/outputs/frame", R"({"send": "hold"})", bearer);
+        CHECK(output.status == 404);
+        CHECK_THAT(json::parse(output.body)["error"].get<std::string>(), Catch::Contains("no outputs"));
 
         auto armed = http(p, "POST", "/api/v1/arm", flat_specimen, bearer);
         INFO(armed.body);

@@ -137,11 +137,14 @@ function connect() {
   };
 }
 
-for (const [id, path, body] of [['btn-start', '/api/v1/start'], ['btn-stop', '/api/v1/stop'],
+for (const [id, path, body] of [['btn-tare', '/api/v1/tare'], ['btn-start', '/api/v1/start'], ['btn-stop', '/api/v1/stop'],
                                 ['btn-abort', '/api/v1/abort', { cause: 'aborted from the page' }],
                                 ['confirm-handover', '/api/v1/handover/confirm']]) {
   $(id).addEventListener('click', async () => {
-    try { const r = await call('POST', path, body); say($('cmd-msg'), `done: ${r.state}`, true); }
+    try {
+      const r = await call('POST', path, body);
+      say($('cmd-msg'), r.command === 'tare' ? `tare: ${r.note}` : `done: ${r.state}`, true);
+    }
     catch (e) { say($('cmd-msg'), e.message, false); }
   });
 }
