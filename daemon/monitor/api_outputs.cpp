@@ -47,25 +47,25 @@ void send_command(RigService& rig, const drivers::OutputConfig& out, const json&
     auto sender = rig.command_output(out.name);
     if (!sender) return done(error_reply(503, "output '" + out.name + "' has no link to send on"));
     sender->submit(word, [done, name = out.name](const drivers::CommandResult& r) {
-        json j = {{"output", name}, {"command", r.command}, {"outcome", std::string(drivers::name_of(r.outcome))},
+        json a = {{"output", name}, {"command", r.command}, {"outcome", std::string(drivers::name_of(r.outcome))},
                   {"attempts", r.attempts}, {"reply", r.reply}};
         switch (r.outcome) {
             case drivers::CommandOutcome::acknowledged:
-                j["ok"] = true;
-                return done(json_reply(j));
+                a["ok"] = true;
+                return done(json_reply(a));
             case drivers::CommandOutcome::refused:
-                j["error"] = "the rig refused '" + r.command + "' on output '" + name + "': " + r.reply;
-                j["status"] = 502;
-                return done(json_reply(j, 502));
+                a["error"] = "the rig refused '" + r.command + "' on output '" + name + "': " + r.reply;
+                a["status"] = 502;
+                return done(json_reply(a, 502));
             case drivers::CommandOutcome::timed_out:
-                j["error"] = "no acknowledgement of '" + r.command + "' on output '" + name + "' after " +
+                a["error"] = "no acknowledgement of '" + r.command + "' on output '" + name + "' after " +
                              std::to_string(r.attempts) + " attempts; treat it as not done";
-                j["status"] = 504;
-                return done(json_reply(j, 504));
+                a["status"] = 504;
+                return done(json_reply(a, 504));
             case drivers::CommandOutcome::not_sent:
-                j["error"] = "'" + r.command + "' not sent on output '" + name + "': " + r.reply;
-                j["status"] = 503;
-                return done(json_reply(j, 503));
+                a["error"] = "'" + r.command + "' not sent on output '" + name + "': " + r.reply;
+                a["status"] = 503;
+                return done(json_reply(a, 503));
         }
     });
 }

@@ -31,8 +31,8 @@ std::filesystem::path write_config(const std::filesystem::path& dir, const std::
     std::ofstream(file) << "[daemon]\ndata_dir = \"" << dir.string() << "\"\n"
                         << "[monitor]\nlisten = \"127.0.0.1\"\nport = 0\ntoken_file = \"" << (dir / "token").string() << "\"\n"
                         << "[rig]\nname = \"bench-4\"\ncommands = \"frame\"\nrelay = \"lamp\"\n[run]\nprofile = \"strip\"\n"
-                        << "[profile.strip]\nproof_offsets_pct = [0.2]\npreload_N = 20\n"
-                        << "  [profile.strip.handover]\n  when = \"at-strain\"\n  strain_pct = 1\n  hold = true\n"
+                        << "[profile.strip]\nproof_offsets_pct = [0.2]\npreload_N = 20\nextensometer_range_mm = 1\n"
+                        << "  [profile.strip.handover]\n  when = \"at-travel\"\n  travel_share = 0.5\n  hold = true\n"
                         << "[source.frame]\nkind = \"serial\"\npath = \"" << pty << "\"\n"
                         << "format = \"lines\"\ntime_field = 0\n"
                         << "  [[source.frame.channel]]\n  name = \"force\"\n  unit = \"N\"\n  field = 1\n"
@@ -217,9 +217,11 @@ TEST_CASE("tare and outputs: API and tensilectl against a rig on a pty") {
         REQUIRE(wait_for([&] { return status(p)["tare"]["state"] == "taken"; }, 5));
         rig.force_N = 500.0;
         REQUIRE(wait_for([&] { return status(p)["state"] == "running"; }, 5));
-        // Strain (0.76 − 0.01) mm / 50 mm = 1.5 %, past the profile's 1 %.
+        // Tared extension 0.76 − 0.01 = 0.75 mm, past half the 1 mm travel.
         rig.extension_mm = 0.76;
-        REQUIRE(wait_for([&] { return status(p)["handover"] == "waiting"; }, 5));
+        const bool waiting = wait_for([&] { return status(p)["handover"] == "waiting"; }, 5);
+        INFO(status(p).dump());
+        REQUIRE(waiting);
         REQUIRE(wait_for([&] { return rig.count("hold") == 1; }, 2));
 
         auto resume = http(p, "POST", "/api/v1/outputs/frame", R"({"send": "resume"})", bearer);

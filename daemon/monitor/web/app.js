@@ -70,6 +70,8 @@ function addEventLine(text, cls) {
   $('events').appendChild(li);
 }
 
+const eventText = (e) => `${e.label || e.kind} at ${fmt(e.time_s, 2)} s: ${fmt(e.stress_MPa, 1)} MPa, ${fmt(e.strain_pct, 3)} %`;
+
 function onMessage(m) {
   switch (m.type) {
     case 'hello': {
@@ -98,7 +100,7 @@ function onMessage(m) {
     case 'idle': showValues(m); break;
     case 'event':
       live.event(m);
-      addEventLine(`${m.label || m.kind} at ${fmt(m.time_s, 2)} s: ${fmt(m.stress_MPa, 1)} MPa, ${fmt(m.strain_pct, 3)} %`);
+      addEventLine(eventText(m));
       break;
     case 'alarm':
       if (m.kind === 'extensometer_alert') showHandover('waiting', m.message);
@@ -121,6 +123,8 @@ async function backfill(id) {
     const [run, frames] = await Promise.all([call('GET', `/api/v1/runs/${id}`), call('GET', `/api/v1/runs/${id}/frames?points=500`)]);
     live.clear();
     live.backfill(frames, run.events);
+    $('events').innerHTML = '';
+    for (const e of run.events) addEventLine(eventText(e));
   } catch (e) { /* the live feed still works */ }
 }
 
