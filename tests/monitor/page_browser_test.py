@@ -113,15 +113,15 @@ class Browser:
             pass
 
 
-def wait(what, ready, seconds):
+def wait(what, ready, seconds, shown=None):
+    """Polls `ready` until it gives something true; `shown` says what the page showed instead."""
     until = time.monotonic() + seconds
-    last = None
     while time.monotonic() < until:
         last = ready()
         if last:
             return last
         time.sleep(0.1)
-    raise Failed("waited %.0f s for %s" % (seconds, what))
+    raise Failed("waited %.0f s for %s%s" % (seconds, what, "; the page showed: %r" % shown() if shown else ""))
 
 
 def start_daemon(bin_dir, data_dir, log_path):
@@ -205,12 +205,6 @@ def run(args):
         msg = wait("the tare refusal", lambda: browser.text("#cmd-msg"), 10)
         check("running" in msg, "the page shows why the tare was refused: " + msg)
 
-        browser.click("#confirm-handover")
-        wait("the alert to go", lambda: not browser.displayed("#alert"), 10)
-        status, s = http_json("GET", api + "/api/v1/status")
-        check(s["handover"] == "done", "confirming from the page finished the hand-over")
-        check("done" in browser.text("#cmd-msg"), "the page says the command was done: " + browser.text("#cmd-msg"))
-
         # Arming: a bad specimen is refused before sending, naming the field.
         browser.js("const f = document.getElementById('arm-form'); f.shape.value = 'rectangular';"
                    "f.shape.dispatchEvent(new Event('change'));")
@@ -222,11 +216,18 @@ def run(args):
         msg = wait("the arming message", lambda: browser.text("#arm-msg"), 10)
         check("width" in msg and "above zero" in msg, "a zero width is refused with the field named: " + msg)
         check("bad" in browser.js("return document.getElementById('arm-msg').className"), "the refusal is shown as an error")
-        # A good specimen while a run is live: the daemon refuses and the page shows its message.
+        # A good specimen while the run is held for the hand-over: the daemon refuses, the page shows why.
         browser.type("#arm-form input[name=width_mm]", "12.5")
         browser.click("#arm-form button[type=submit]")
-        msg = wait("the daemon's refusal", lambda: "cannot arm" in browser.text("#arm-msg") and browser.text("#arm-msg"), 10)
+        msg = wait("the daemon's refusal", lambda: "cannot arm" in browser.text("#arm-msg") and browser.text("#arm-msg"), 10,
+                   lambda: browser.text("#arm-msg"))
         check("running" in msg, "the daemon's refusal is shown: " + msg)
+
+        browser.click("#confirm-handover")
+        wait("the alert to go", lambda: not browser.displayed("#alert"), 10)
+        status, s = http_json("GET", api + "/api/v1/status")
+        check(s["handover"] == "done", "confirming from the page finished the hand-over")
+        check("done" in browser.text("#cmd-msg"), "the page says the command was done: " + browser.text("#cmd-msg"))
 
         # The run ends at fracture; the history lists it and shows its curve and results.
         wait("the stored run in the history", lambda: "finished" in browser.text("#runs"), 90)
