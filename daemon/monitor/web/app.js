@@ -78,7 +78,9 @@ function onMessage(m) {
       const s = m.status;
       $('rig').textContent = s.daemon.rig;
       setState(s.state);
-      showHandover(s.handover);
+      // Opened while the extensometer should come off: say why, from the alarm that asked.
+      const ask = s.alarms.filter((a) => a.kind === 'extensometer_alert').pop();
+      showHandover(s.handover, s.handover === 'waiting' && ask ? ask.message : '');
       showValues(s.values);
       $('v-run').textContent = s.run ? `${s.run.number} · ${s.run.label}` : '-';
       const sel = $('profiles');
