@@ -44,6 +44,11 @@ void send_command(RigService& rig, const drivers::OutputConfig& out, const json&
     if (word == "resume" && rig.handover() == HandoverState::waiting)
         return done(error_reply(409, "cannot resume: the frame is held for extensometer removal; take it off and confirm "
                                      "the hand-over (POST /api/v1/handover/confirm), which resumes the frame"));
+    // A link that is down would only time out after every retry: say so at once.
+    for (const auto& st : rig.acquisition().status())
+        if (st.name == out.source && st.state != drivers::SourceState::connected)
+            return done(error_reply(503, "'" + word + "' not sent on output '" + out.name + "': its link (source '" +
+                                             out.source + "') is " + std::string(drivers::name_of(st.state))));
     auto sender = rig.command_output(out.name);
     if (!sender) return done(error_reply(503, "output '" + out.name + "' has no link to send on"));
     sender->submit(word, [done, name = out.name](const drivers::CommandResult& r) {

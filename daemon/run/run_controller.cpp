@@ -48,6 +48,9 @@ Result<bool> RunController::arm(SpecimenGeometry geometry, RunSettings settings,
     analyzer_.emplace(geometry_, settings_.profile);
     armed_at_ = now;
     tare_from_ = now;
+    // The readout zero belonged to the time between runs; this run tares afresh.
+    idle_zero_taken_ = false;
+    idle_zero_needed_ = idle_zero_seen_ = 0;
     tare_seen_ = 0;
     tare_sum_[0] = tare_sum_[1] = tare_sum_[2] = 0;
     tare_count_[0] = tare_count_[1] = tare_count_[2] = 0;

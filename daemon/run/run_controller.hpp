@@ -92,7 +92,8 @@ public:
     Result<bool> confirm_handover(double now, RunOutput& out);
     // Takes the tare again from the frames stamped after `now`: while armed
     // (not yet running) it replaces the run's tare; with no run live it takes
-    // a zero for the readout between runs (the next arming tares afresh).
+    // a zero for the readout between runs (the next arming tares afresh and
+    // forgets it).
     // Refused while running: the curve's origin must not move under it.
     Result<bool> retare(double now);
     void on_frame(const Frame& raw, RunOutput& out);

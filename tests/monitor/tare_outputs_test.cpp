@@ -92,6 +92,8 @@ TEST_CASE("tare and outputs: API and tensilectl against a rig on a pty") {
 
         // Arming takes the run's own tare, whatever the readout zero was.
         rig.force_N = 52.0;
+        // Frames stamped after the command make the tare; let the 37.5 N ones pass first.
+        std::this_thread::sleep_for(std::chrono::milliseconds(100));
         auto armed = http(p, "POST", "/api/v1/arm",
                           R"({"specimen": {"label": "T-1", "shape": "area", "area_mm2": 20, "gauge_length_mm": 50}})", bearer);
         REQUIRE(armed.status == 200);
@@ -128,6 +130,10 @@ TEST_CASE("tare and outputs: API and tensilectl against a rig on a pty") {
         CHECK(ctl_late.code == 1);
         CHECK_THAT(ctl_late.out, Catch::Contains("running"));
         CHECK(http(p, "POST", "/api/v1/stop", "", bearer).status == 200);
+        // Arming forgot the readout zero taken before the run.
+        CHECK(status(p)["tare"]["scope"] == "readout");
+        CHECK(status(p)["tare"]["state"] == "none");
+        CHECK(status(p)["values"]["tared"] == false);
         auto ctl_zero = run_command(ctl + "tare" + at + tf);
         CHECK(ctl_zero.code == 0);
         CHECK_THAT(ctl_zero.out, Catch::Contains("readout zero"));
