@@ -1,6 +1,7 @@
 // Routing and the commands of the monitor API; see api.hpp.
 #include "api.hpp"
 
+#include "api_outputs.hpp"
 #include "api_runs.hpp"
 #include "daemon/offline/specimen_json.hpp"
 #include "daemon/tensiled/run_keeper.hpp"
@@ -31,18 +32,6 @@ Reply method_not_allowed(const std::string& method, const std::string& path, con
     return r;
 }
 
-// Parses a command body: empty is an empty object; anything else must be a JSON object.
-Result<json> parse_body(const std::string& body) {
-    if (body.find_first_not_of(" \t\r\n") == std::string::npos) return json::object();
-    try {
-        auto j = json::parse(body);
-        if (!j.is_object()) return Error{"malformed JSON: expected an object {...}"};
-        return j;
-    } catch (const json::parse_error& e) {
-        return Error{std::string("malformed JSON: ") + e.what()};
-    }
-}
-
 }  // namespace
 
 Api::Api(ApiContext context) : c_(std::move(context)), started_s_(steady_now_s()) {}
@@ -64,12 +53,15 @@ void Api::handle(ApiRequest r, std::function<void(Reply)> done) {
     if (!is_api && !is_metrics) return done(error_reply(404, "no such path: " + r.path));
 
     // Which routes change the rig.
-    static const std::vector<std::string> commands = {"arm", "start", "stop", "abort"};
+    static const std::vector<std::string> commands = {"arm", "start", "stop", "abort", "tare"};
     const bool is_command = is_api && ((parts.size() == 3 && std::find(commands.begin(), commands.end(), parts[2]) != commands.end()) ||
                                        (parts.size() == 4 && parts[2] == "handover" && parts[3] == "confirm"));
-    if (is_command) {
+    const bool is_output = is_api && parts.size() == 4 && parts[2] == "outputs";
+    if (is_command || is_output) {
         if (r.method != "POST") return done(method_not_allowed(r.method, r.path, "POST"));
         if (auto refusal = c_.access.check(r.authorization, true)) return done(error_reply(refusal->status, refusal->message));
+        if (is_output) return use_output(c_.rig, parts[3], r.body, std::move(done));
+        if (parts[2] == "tare") return done(tare(c_.rig, r.body));
         return done(command(parts.size() == 4 ? "handover/confirm" : parts[2], r.body));
     }
     if (auto refusal = c_.access.check(r.authorization, false)) return done(error_reply(refusal->status, refusal->message));
@@ -81,6 +73,10 @@ void Api::handle(ApiRequest r, std::function<void(Reply)> done) {
     if (parts.size() == 3 && parts[2] == "status") {
         if (!get) return done(method_not_allowed(r.method, r.path, "GET"));
         return done(json_reply(status()));
+    }
+    if (parts.size() == 3 && parts[2] == "outputs") {
+        if (!get) return done(method_not_allowed(r.method, r.path, "GET"));
+        return done(json_reply(outputs_json(c_.rig)));
     }
     if (parts.size() >= 3 && parts[2] == "runs") {
         if (!get) return done(method_not_allowed(r.method, r.path, "GET"));
@@ -122,7 +118,7 @@ void Api::runs(const ApiRequest& r, const std::function<void(Reply)>& done) {
 }
 
 Reply Api::command(const std::string& name, const std::string& body) {
-    auto j = parse_body(body);
+    auto j = parse_command_body(body);
     if (!j) return error_reply(400, j.error());
     Result<bool> done = Error{""};
     if (name == "arm") {

@@ -9,6 +9,9 @@
 //   GET  /api/v1/runs/{id}/export   ?format=csv|json
 //   POST /api/v1/arm                {"specimen": {...}, "profile": "name"}
 //   POST /api/v1/start | stop | abort | handover/confirm
+//   POST /api/v1/tare               take the tare again (see api_outputs.hpp)
+//   GET  /api/v1/outputs            the rig's outputs
+//   POST /api/v1/outputs/{name}     {"send": "hold"} | {"relay": "on"|"off"}
 //   GET  /api/v1/live               WebSocket upgrade (handled by HttpSession)
 //
 // Access: see access.hpp (page files need no token: they carry no data).
@@ -17,7 +20,8 @@
 //
 // Error policy: every refusal is one JSON error naming what was wrong: 400
 // malformed JSON or bad field, 401 token, 404 unknown run or path, 405 wrong
-// method (with Allow), 409 a command that does not fit the run's state.
+// method (with Allow), 409 a command that does not fit the run's state;
+// outputs add 502/503/504 for what the rig did (api_outputs.hpp).
 #pragma once
 
 #include <filesystem>

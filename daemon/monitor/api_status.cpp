@@ -65,6 +65,20 @@ json Api::status() const {
         j["run"] = nullptr;
     }
     j["values"] = c_.feed.values();
+    {
+        // The zero in force now: the run's tare while a run is live, the
+        // readout zero between runs; "taking" until its frames are in.
+        const auto& c = c_.rig.controller();
+        const bool run = live(c_.rig.state());
+        const bool taking = run ? !c.tare_taken() : c.idle_zero_pending();
+        const bool taken = run ? c.tare_taken() : c.idle_zero_taken();
+        const double* zero = run ? c.tare() : c.idle_zero();
+        j["tare"] = {{"scope", run ? "run" : "readout"},
+                     {"state", taking ? "taking" : taken ? "taken" : "none"},
+                     {"force_N", taken ? json(zero[0]) : json(nullptr)},
+                     {"extension_mm", taken ? json(zero[1]) : json(nullptr)},
+                     {"crosshead_mm", taken ? json(zero[2]) : json(nullptr)}};
+    }
     json sources = json::array();
     for (const auto& s : c_.rig.acquisition().status()) sources.push_back(source_json(s));
     j["sources"] = sources;

@@ -140,8 +140,21 @@ void LiveFeed::idle_frame(const drivers::AlignedFrame& frame) { idle_ = frame; }
 json LiveFeed::values() const {
     json v;
     const bool run_live = live(rig_.state()) && latest_;
-    const Frame f = run_live ? *latest_ : rig_.last_frame().frame;
-    v["tared"] = run_live;
+    const auto& c = rig_.controller();
+    // Before the first run frame: the raw frame less whatever zero applies
+    // now (the run's tare once taken while armed, the readout zero between runs).
+    Frame f = run_live ? *latest_ : rig_.last_frame().frame;
+    bool tared = run_live;
+    if (!run_live && rig_.state() == RunState::armed && c.tare_taken()) {
+        f.force_N -= c.tare()[0];
+        f.extension_mm -= c.tare()[1];
+        f.crosshead_mm -= c.tare()[2];
+        tared = true;
+    } else if (!live(rig_.state())) {
+        f = c.idle_view(f);
+        tared = c.idle_zero_taken();
+    }
+    v["tared"] = tared;
     v["time_s"] = number(f.time_s);
     v["force_N"] = number(f.force_N);
     v["extension_mm"] = number(f.extension_mm);
@@ -185,8 +198,9 @@ void LiveFeed::tick_points() {
         window_count_ = 0;
     } else if (idle_ && ++idle_ticks_ >= 10) {  // 5 per second while idle
         idle_ticks_ = 0;
-        const auto& f = idle_->frame;
+        const auto f = rig_.controller().idle_view(idle_->frame);
         send({{"type", "idle"},
+              {"tared", rig_.controller().idle_zero_taken()},
               {"state", tensile::name_of(rig_.state())},
               {"force_N", number(f.force_N)},
               {"extension_mm", number(f.extension_mm)},

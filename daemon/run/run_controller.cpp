@@ -47,6 +47,10 @@ Result<bool> RunController::arm(SpecimenGeometry geometry, RunSettings settings,
     geometry_ = geometry;
     analyzer_.emplace(geometry_, settings_.profile);
     armed_at_ = now;
+    tare_from_ = now;
+    // The readout zero belonged to the time between runs; this run tares afresh.
+    idle_zero_taken_ = false;
+    idle_zero_needed_ = idle_zero_seen_ = 0;
     tare_seen_ = 0;
     tare_sum_[0] = tare_sum_[1] = tare_sum_[2] = 0;
     tare_count_[0] = tare_count_[1] = tare_count_[2] = 0;
@@ -85,6 +89,47 @@ Result<bool> RunController::confirm_handover(double now, RunOutput& out) {
     return true;
 }
 
+Result<bool> RunController::retare(double now) {
+    if (state_ == RunState::running)
+        return refused("re-take the tare", state_, "no run live, or an armed run that has not started");
+    if (state_ == RunState::armed) {
+        tare_from_ = now;
+        tare_seen_ = 0;
+        tare_sum_[0] = tare_sum_[1] = tare_sum_[2] = 0;
+        tare_count_[0] = tare_count_[1] = tare_count_[2] = 0;
+        return true;
+    }
+    idle_zero_from_ = now;
+    idle_zero_seen_ = 0;
+    idle_zero_needed_ = settings_.tare_frames;
+    idle_sum_[0] = idle_sum_[1] = idle_sum_[2] = 0;
+    idle_count_[0] = idle_count_[1] = idle_count_[2] = 0;
+    return true;
+}
+
+void RunController::on_idle_frame(const Frame& raw) {
+    if (live(state_) || idle_zero_seen_ >= idle_zero_needed_ || !(raw.time_s >= idle_zero_from_)) return;
+    const double v[3] = {raw.force_N, raw.extension_mm, raw.crosshead_mm};
+    for (int c = 0; c < 3; ++c)
+        if (std::isfinite(v[c])) {
+            idle_sum_[c] += v[c];
+            ++idle_count_[c];
+        }
+    if (++idle_zero_seen_ == idle_zero_needed_) {
+        for (int c = 0; c < 3; ++c) idle_zero_[c] = idle_count_[c] > 0 ? idle_sum_[c] / idle_count_[c] : 0.0;
+        idle_zero_taken_ = true;
+    }
+}
+
+Frame RunController::idle_view(const Frame& raw) const {
+    Frame f = raw;
+    if (!idle_zero_taken_) return f;
+    f.force_N -= idle_zero_[0];
+    f.extension_mm -= idle_zero_[1];
+    f.crosshead_mm -= idle_zero_[2];
+    return f;
+}
+
 void RunController::device_lost(double now) {
     if (!lost_since_) lost_since_ = now;
 }
@@ -96,6 +141,7 @@ void RunController::on_frame(const Frame& raw, RunOutput& out) {
     // specimen's tail, a buffer that arrived late): never part of this run.
     if (!(raw.time_s >= armed_at_)) return;
     if (state_ == RunState::armed && tare_seen_ < settings_.tare_frames) {
+        if (!(raw.time_s >= tare_from_)) return;  // before a re-take: the old load on the cell
         // Tare: the mean of the first frames after arming, per channel, over
         // the frames where that channel had a value (absent stays absent).
         const double v[3] = {raw.force_N, raw.extension_mm, raw.crosshead_mm};

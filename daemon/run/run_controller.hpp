@@ -8,6 +8,8 @@
 //   crosshead zeroed on the first frames) → running (force passes the preload,
 //   or on command) → finished (a settle time after fracture, or on command)
 //   | aborted (on command) | faulted (a device stayed lost past the limit).
+//   The tare can be taken again on command while armed (before the start);
+//   between runs the same command takes a zero for the readout only.
 //   interrupted is set by storage when the daemon died mid-run.
 //
 // Requests are requests: the frame's own controller, limits and emergency stop
@@ -88,8 +90,19 @@ public:
     Result<bool> stop(double now, RunOutput& out);   // finish on command
     Result<bool> abort(double now, std::string cause, RunOutput& out);
     Result<bool> confirm_handover(double now, RunOutput& out);
-
+    // Takes the tare again from the frames stamped after `now`: while armed
+    // (not yet running) it replaces the run's tare; with no run live it takes
+    // a zero for the readout between runs (the next arming tares afresh and
+    // forgets it).
+    // Refused while running: the curve's origin must not move under it.
+    Result<bool> retare(double now);
     void on_frame(const Frame& raw, RunOutput& out);
+    // Frames while no run is live: feed the readout zero while it is taken.
+    void on_idle_frame(const Frame& raw);
+    // A frame between runs with the readout zero taken off (as is until one is taken).
+    [[nodiscard]] Frame idle_view(const Frame& raw) const;
+    [[nodiscard]] bool idle_zero_taken() const { return idle_zero_taken_; }
+    [[nodiscard]] const double* idle_zero() const { return idle_zero_; }
     // Time passing without frames: settle after fracture, device-lost limit.
     void tick(double now, RunOutput& out);
     void device_lost(double now);
@@ -103,6 +116,10 @@ public:
     [[nodiscard]] bool tare_taken() const { return state_ == RunState::running || (state_ == RunState::armed && tare_seen_ >= settings_.tare_frames); }
     // Offsets taken at arming (force N, extension mm, crosshead mm); valid once running.
     [[nodiscard]] const double* tare() const { return tare_; }
+    // Frames averaged so far for the tare being taken (tare_frames when done).
+    [[nodiscard]] int tare_frames_seen() const { return tare_seen_; }
+    [[nodiscard]] int tare_frames_needed() const { return settings_.tare_frames; }
+    [[nodiscard]] bool idle_zero_pending() const { return idle_zero_seen_ < idle_zero_needed_; }
 
 private:
     void go(RunState to, double now, std::string cause, RunOutput& out);
@@ -120,6 +137,14 @@ private:
     double tare_sum_[3] = {0, 0, 0};
     int tare_count_[3] = {0, 0, 0};
     double tare_[3] = {0, 0, 0};
+    double tare_from_ = 0;  // frames stamped earlier do not count towards the tare
+    // The readout zero between runs.
+    int idle_zero_seen_ = 0, idle_zero_needed_ = 0;
+    double idle_zero_from_ = 0;
+    double idle_sum_[3] = {0, 0, 0};
+    int idle_count_[3] = {0, 0, 0};
+    double idle_zero_[3] = {0, 0, 0};
+    bool idle_zero_taken_ = false;
     // Hand-over and the end.
     HandoverState handover_ = HandoverState::not_due;
     bool held_ = false;

@@ -17,6 +17,7 @@ int main(int argc, char** argv) {
     tensile::ctl::add_verify_command(app, exit_code);
     tensile::ctl::add_daemon_commands(app, exit_code);
     tensile::ctl::add_watch_command(app, exit_code);
+    tensile::ctl::add_output_commands(app, exit_code);
     tensile::ctl::add_report_commands(app, exit_code);
     try {
         app.parse(argc, argv);

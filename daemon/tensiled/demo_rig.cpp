@@ -161,6 +161,10 @@ void DemoRig::start_when_tared() {
 }
 
 void DemoRig::on_extensometer_alert() {
+    if (by_hand_) {
+        log_->info("demo: the frame holds until you confirm the extensometer is off (page or tensilectl confirm-handover)");
+        return;
+    }
     // The demo's operator takes a couple of seconds to unclip it.
     operator_.expires_after(std::chrono::milliseconds(static_cast<int>(2000 / std::max(speed_, 0.1))));
     operator_.async_wait([this](const boost::system::error_code& ec) {

@@ -3,7 +3,8 @@
 // our own demo scenario (Harbourline Metals, an invented supplier) armed one
 // after the other. The demo also plays the operator: a couple of seconds after
 // the daemon asks for the extensometer to come off, it tells the simulator to
-// take it off, so the hand-over runs end to end.
+// take it off, so the hand-over runs end to end; with `--demo-confirm-by-hand`
+// it leaves that to the person at the page (or tensilectl, or a test).
 //
 // Error policy: a simulator that cannot be started or listed ends the demo
 // with a message (start-up); a simulator that dies mid-run is an alarm and the
@@ -52,6 +53,8 @@ public:
     void inject(std::vector<std::string> faults) { faults_ = std::move(faults); }
     // Benchmarks: the simulator writes as fast as the daemon reads, at this sample rate.
     void flat_out(double rate_hz) { fast_rate_hz_ = rate_hz; }
+    // The hand-over waits for a person's confirmation instead of the demo's operator.
+    void confirm_by_hand(bool by_hand) { by_hand_ = by_hand; }
     // Hooks the service calls (wired by main).
     void on_extensometer_alert();
     void on_run_end(const RunInfo& run, RunState end, const Results& results);
@@ -74,6 +77,7 @@ private:
     std::shared_ptr<spdlog::logger> log_;
     std::vector<std::string> faults_;
     double fast_rate_hz_ = 0;
+    bool by_hand_ = false;
     std::size_t next_ = 0;
     int child_ = -1;
     boost::asio::steady_timer operator_, pause_, tare_watch_;

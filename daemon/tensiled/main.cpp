@@ -54,7 +54,7 @@ std::uint16_t free_port() {
 
 int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::size_t demo_runs,
                const std::vector<std::string>& demo_faults, double demo_fast_rate, const std::filesystem::path& self,
-               bool monitor_port_given) {
+               bool monitor_port_given, bool demo_by_hand) {
     auto log = make_logger(config.data_dir, config.log_level);
     log->info("tensiled {} starting; rig '{}', data in {}", TENSILED_VERSION, config.rig.name, config.data_dir.string());
     log->warn("tensiled is no interlock: the frame's own limits, guards and emergency stop stay in charge");
@@ -74,6 +74,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
                                                       config.data_dir, log);
         demo_rig->inject(demo_faults);
         if (demo_fast_rate > 0) demo_rig->flat_out(demo_fast_rate);
+        demo_rig->confirm_by_hand(demo_by_hand);
     }
     // Monitor (daemon/monitor): HTTP API, live feed, /metrics and the page.
     std::unique_ptr<tensile::monitor::MonitorServer> monitor_server;
@@ -189,6 +190,7 @@ int main(int argc, char** argv) {
     std::size_t demo_runs = 0;
     std::vector<std::string> demo_faults;
     double demo_fast_rate = 0;
+    bool demo_by_hand = false;
     std::string data_dir = "data/demo";
     int monitor_port = -1;  // -1: the config's (demo: 8470)
     auto* o_config = app.add_option("--config", config_file, "Rig config (TOML) to run");
@@ -200,6 +202,8 @@ int main(int argc, char** argv) {
     app.add_option("--demo-flat-out", demo_fast_rate,
                    "Demo (benchmarks): the simulator streams as fast as read, at this sample rate in Hz")
         ->check(CLI::Range(1.0, 1e6));
+    app.add_flag("--demo-confirm-by-hand", demo_by_hand,
+                 "Demo: leave the extensometer hand-over to you (confirm on the page or with tensilectl)");
     app.add_option("--demo-runs", demo_runs, "Demo: stop after this many specimens (0: play all, then keep serving)");
     app.add_option("--monitor-port", monitor_port, "Monitor port instead of the config's (0: any free port)")
         ->check(CLI::Range(0, 65535));
@@ -241,7 +245,7 @@ int main(int argc, char** argv) {
     try {
         const auto self = std::filesystem::canonical("/proc/self/exe");
         return run_daemon(std::move(config), demo, demo_speed, demo_runs, demo_faults, demo_fast_rate, self,
-                          monitor_port >= 0);
+                          monitor_port >= 0, demo_by_hand);
     } catch (const std::exception& e) {
         std::cerr << "tensiled: " << e.what() << '\n';
         return 1;

@@ -39,17 +39,29 @@ RigService::RigService(boost::asio::io_context& io, DaemonConfig config, std::sh
                    log_),
       tick_(io),
       counters_(io) {
+    // Every output gets its driver, so operators can use them by name; the
+    // rig's own roles (commands, hand-over relay) point at two of them.
+    // A source has one message handler: it hands each `#` line to every
+    // command output on that link.
+    std::map<std::string, std::vector<std::shared_ptr<drivers::CommandSender>>> by_source;
     for (const auto& o : config_.drivers.outputs) {
-        if (o.name == config_.rig.commands_output && o.kind == drivers::OutputKind::command) {
-            commands_ = drivers::CommandSender::create(io_, acquisition_.source(o.source), o.command, log_);
-            auto sender = commands_;
-            acquisition_.on_device_message(o.source, [sender](std::string_view line) { sender->on_device_message(line); });
+        if (o.kind == drivers::OutputKind::command) {
+            auto sender = drivers::CommandSender::create(io_, acquisition_.source(o.source), o.command, log_);
+            by_source[o.source].push_back(sender);
+            senders_[o.name] = sender;
+            if (o.name == config_.rig.commands_output) commands_ = sender;
         }
-        if (o.name == config_.rig.relay_output && o.kind == drivers::OutputKind::relay) {
+        if (o.kind == drivers::OutputKind::relay) {
             auto port = std::dynamic_pointer_cast<drivers::SerialSource>(acquisition_.source(o.source));
-            if (port) relay_ = std::make_unique<drivers::RelayOutput>(o.name, port, o.line, log_);
+            if (!port) continue;
+            auto& relay = relays_[o.name] = std::make_unique<drivers::RelayOutput>(o.name, port, o.line, log_);
+            if (o.name == config_.rig.relay_output) relay_ = relay.get();
         }
     }
+    for (auto& [source, senders] : by_source)
+        acquisition_.on_device_message(source, [senders = std::move(senders)](std::string_view line) {
+            for (const auto& s : senders) s->on_device_message(line);
+        });
 }
 
 void RigService::start() {
@@ -111,9 +123,28 @@ Result<bool> RigService::confirm_handover() {
     return r;
 }
 
+Result<bool> RigService::retare() {
+    auto r = controller_.retare(now_s());
+    if (r)
+        log_->info("{} taken again on command", live(controller_.state()) ? "run " + std::to_string(run_->number) + ": tare"
+                                                                         : std::string("readout zero"));
+    return r;
+}
+
+std::shared_ptr<drivers::CommandSender> RigService::command_output(const std::string& name) const {
+    const auto found = senders_.find(name);
+    return found == senders_.end() ? nullptr : found->second;
+}
+
+drivers::RelayOutput* RigService::relay_output(const std::string& name) const {
+    const auto found = relays_.find(name);
+    return found == relays_.end() ? nullptr : found->second.get();
+}
+
 void RigService::on_frames(const std::vector<drivers::AlignedFrame>& frames, double arrival_s) {
     last_frame_ = frames.back();
     if (!live(controller_.state())) {
+        for (const auto& f : frames) controller_.on_idle_frame(f.frame);
         if (observers_.on_idle_frame)
             for (const auto& f : frames) observers_.on_idle_frame(f);
         return;

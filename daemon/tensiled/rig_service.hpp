@@ -10,6 +10,7 @@
 #pragma once
 
 #include <functional>
+#include <map>
 #include <memory>
 #include <optional>
 #include <string>
@@ -57,6 +58,9 @@ public:
     Result<bool> stop_run();
     Result<bool> abort_run(const std::string& cause);
     Result<bool> confirm_handover();
+    // Takes the tare again (armed, before the start) or the readout zero (no
+    // run live); see RunController::retare.
+    Result<bool> retare();
 
     [[nodiscard]] RunState state() const { return controller_.state(); }
     [[nodiscard]] HandoverState handover() const { return controller_.handover(); }
@@ -74,6 +78,11 @@ public:
     Result<bool> reload(const DaemonConfig& fresh);
     // Sends one command line on the rig's command output (demo operator, tests).
     void send_command(const std::string& command);
+    // Every output of the config by name, for operators' commands from the
+    // monitor; null when the name is not an output of that kind (or a relay's
+    // source is not a serial port).
+    [[nodiscard]] std::shared_ptr<drivers::CommandSender> command_output(const std::string& name) const;
+    [[nodiscard]] drivers::RelayOutput* relay_output(const std::string& name) const;
 
 private:
     void on_frames(const std::vector<drivers::AlignedFrame>& frames, double arrival_s);
@@ -91,8 +100,10 @@ private:
     std::optional<RunInfo> run_;
     std::uint64_t runs_ = 0;
     RigObservers observers_;
-    std::shared_ptr<drivers::CommandSender> commands_;
-    std::unique_ptr<drivers::RelayOutput> relay_;
+    std::shared_ptr<drivers::CommandSender> commands_;  // the rig's hold/resume/stop output
+    drivers::RelayOutput* relay_ = nullptr;            // the rig's hand-over relay
+    std::map<std::string, std::shared_ptr<drivers::CommandSender>> senders_;
+    std::map<std::string, std::unique_ptr<drivers::RelayOutput>> relays_;
     boost::asio::steady_timer tick_, counters_;
     drivers::AlignedFrame last_frame_{};
     int lost_sources_ = 0;

@@ -39,7 +39,8 @@ std::filesystem::path write_config(const std::filesystem::path& dir) {
                         << "retry_min_ms = 100\nretry_max_ms = 500\nformat = \"lines\"\ntime_field = 0\n"
                         << "  [[source.frame.channel]]\n  name = \"force\"\n  unit = \"N\"\n  field = 1\n"
                         << "  [[source.frame.channel]]\n  name = \"extension\"\n  unit = \"mm\"\n  field = 2\n"
-                        << "  [[source.frame.channel]]\n  name = \"crosshead\"\n  unit = \"mm\"\n  field = 3\n";
+                        << "  [[source.frame.channel]]\n  name = \"crosshead\"\n  unit = \"mm\"\n  field = 3\n"
+                        << "[output.frame]\nkind = \"command\"\nsource = \"frame\"\n";
     return file;
 }
 
@@ -127,6 +128,8 @@ TEST_CASE("the API answers every endpoint and refuses what it should") {
         CHECK_THAT(json::parse(wrong.body)["error"].get<std::string>(), Catch::Contains("wrong token"));
         CHECK(http(p, "POST", "/api/v1/start").status == 401);
         CHECK(http(p, "POST", "/api/v1/handover/confirm").status == 401);
+        CHECK(http(p, "POST", "/api/v1/tare").status == 401);
+        CHECK(http(p, "POST", "/api/v1/outputs/frame", R"({"send": "hold"})", "Bearer not-the-token-at-all").status == 401);
         CHECK(json::parse(http(p, "GET", "/api/v1/status").body)["state"] == "idle");
     }
 
@@ -158,6 +161,21 @@ TEST_CASE("the API answers every endpoint and refuses what it should") {
         CHECK(http(p, "POST", "/api/v1/stop", "", bearer).status == 409);
         CHECK(http(p, "POST", "/api/v1/abort", "", bearer).status == 409);
         CHECK(http(p, "POST", "/api/v1/handover/confirm", "", bearer).status == 409);
+
+        // No source connected: a tare would wait for frames that never come.
+        auto tare = http(p, "POST", "/api/v1/tare", "", bearer);
+        CHECK(tare.status == 409);
+        CHECK_THAT(json::parse(tare.body)["error"].get<std::string>(), Catch::Contains("no source is connected"));
+        // The rig's command output rides on a link that never connects: said at once, nothing sent.
+        const auto outputs = json::parse(http(p, "GET", "/api/v1/outputs").body)["outputs"];
+        REQUIRE(outputs.size() == 1);
+        CHECK(outputs[0]["name"] == "frame");
+        CHECK(outputs[0]["kind"] == "command");
+        CHECK(outputs[0]["role"].is_null());  // [rig] commands does not name it
+        auto output = http(p, "POST", "/api/v1/outputs/frame", R"({"send": "hold"})", bearer);
+        CHECK(output.status == 503);
+        CHECK_THAT(json::parse(output.body)["error"].get<std::string>(), Catch::Contains("its link (source 'frame') is"));
+        CHECK(http(p, "POST", "/api/v1/outputs/lamp", R"({"relay": "on"})", bearer).status == 404);
 
         auto armed = http(p, "POST", "/api/v1/arm", flat_specimen, bearer);
         INFO(armed.body);

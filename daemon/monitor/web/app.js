@@ -70,13 +70,17 @@ function addEventLine(text, cls) {
   $('events').appendChild(li);
 }
 
+const eventText = (e) => `${e.label || e.kind} at ${fmt(e.time_s, 2)} s: ${fmt(e.stress_MPa, 1)} MPa, ${fmt(e.strain_pct, 3)} %`;
+
 function onMessage(m) {
   switch (m.type) {
     case 'hello': {
       const s = m.status;
       $('rig').textContent = s.daemon.rig;
       setState(s.state);
-      showHandover(s.handover);
+      // Opened while the extensometer should come off: say why, from the alarm that asked.
+      const ask = s.alarms.filter((a) => a.kind === 'extensometer_alert').pop();
+      showHandover(s.handover, s.handover === 'waiting' && ask ? ask.message : '');
       showValues(s.values);
       $('v-run').textContent = s.run ? `${s.run.number} · ${s.run.label}` : '-';
       const sel = $('profiles');
@@ -98,7 +102,7 @@ function onMessage(m) {
     case 'idle': showValues(m); break;
     case 'event':
       live.event(m);
-      addEventLine(`${m.label || m.kind} at ${fmt(m.time_s, 2)} s: ${fmt(m.stress_MPa, 1)} MPa, ${fmt(m.strain_pct, 3)} %`);
+      addEventLine(eventText(m));
       break;
     case 'alarm':
       if (m.kind === 'extensometer_alert') showHandover('waiting', m.message);
@@ -121,6 +125,8 @@ async function backfill(id) {
     const [run, frames] = await Promise.all([call('GET', `/api/v1/runs/${id}`), call('GET', `/api/v1/runs/${id}/frames?points=500`)]);
     live.clear();
     live.backfill(frames, run.events);
+    $('events').innerHTML = '';
+    for (const e of run.events) addEventLine(eventText(e));
   } catch (e) { /* the live feed still works */ }
 }
 
@@ -137,11 +143,14 @@ function connect() {
   };
 }
 
-for (const [id, path, body] of [['btn-start', '/api/v1/start'], ['btn-stop', '/api/v1/stop'],
+for (const [id, path, body] of [['btn-tare', '/api/v1/tare'], ['btn-start', '/api/v1/start'], ['btn-stop', '/api/v1/stop'],
                                 ['btn-abort', '/api/v1/abort', { cause: 'aborted from the page' }],
                                 ['confirm-handover', '/api/v1/handover/confirm']]) {
   $(id).addEventListener('click', async () => {
-    try { const r = await call('POST', path, body); say($('cmd-msg'), `done: ${r.state}`, true); }
+    try {
+      const r = await call('POST', path, body);
+      say($('cmd-msg'), r.command === 'tare' ? `tare: ${r.note}` : `done: ${r.state}`, true);
+    }
     catch (e) { say($('cmd-msg'), e.message, false); }
   });
 }
