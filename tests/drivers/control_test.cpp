@@ -36,7 +36,7 @@ TEST_CASE("control: every split and byte-at-a-time give the same, a cut answer i
     CHECK(cut.counters.stream.resync_bytes == 6);
 }
 
-TEST_CASE("control: a source without channels loads; channels are refused by name", "[control][config]") {
+TEST_CASE("control: a source without channels loads, one with channels is refused by name", "[control][config]") {
     const std::string ok = "[source.ctl]\nkind = \"tcp\"\nhost = \"127.0.0.1\"\nport = 4002\nformat = \"control\"\n";
     const auto d = load_drivers(toml::parse(ok), builtin_formats());
     REQUIRE(d.sources.size() == 1);
