@@ -111,8 +111,12 @@ TEST_CASE("channels on three links at three rates are merged into frames that re
     std::size_t stale = 0;
     for (const auto& f : frames)
         if ((f.flags[1] | f.flags[2]) & drivers::flag::stale) ++stale;
-    // Only the first instants, before the later-started links delivered, may lack a bracketing reading.
-    CHECK(stale < 50);
+    // Stale means a slower link's reading did not arrive within the aligner's
+    // wait (50 ms): the first instants, before the later links delivered, and
+    // moments when the machine is starved of CPU. A clock mapped wrongly would
+    // leave a link behind for good and most frames stale.
+    INFO(stale << " of " << frames.size() << " frames stale");
+    CHECK(stale * 100 < frames.size());
 
     Analyzer analyzer({truth["S0_mm2"].get<double>(), truth["L0_mm"].get<double>(), 0}, Profile{});
     std::vector<Event> events;
