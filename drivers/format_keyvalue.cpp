@@ -9,8 +9,7 @@
 #include <array>
 #include <stdexcept>
 
-#include "line_assembler.hpp"
-#include "parser.hpp"
+#include "text_line_parser.hpp"
 #include "text_value.hpp"
 
 namespace tensile::drivers {
@@ -19,9 +18,9 @@ namespace {
 
 constexpr std::size_t max_channels = 64;
 
-class KeyValueParser final : public Parser {
+class KeyValueParser final : public TextLineParser {
 public:
-    explicit KeyValueParser(FormatConfig cfg) : Parser(std::move(cfg)), lines_(config_.max_line) {
+    explicit KeyValueParser(FormatConfig cfg) : TextLineParser(std::move(cfg)) {
         if (config_.channels.empty() || config_.channels.size() > max_channels)
             throw std::invalid_argument("keyvalue format: give 1 to 64 channels");
         for (std::size_t i = 0; i < config_.channels.size(); ++i) {
@@ -39,24 +38,8 @@ public:
             throw std::invalid_argument("keyvalue format: counter_key needs nominal_rate_hz > 0");
     }
 
-    void feed(std::span<const std::byte> bytes, std::vector<Sample>& out) override {
-        counters_.stream.bytes += bytes.size();
-        lines_.feed(
-            reinterpret_cast<const char*>(bytes.data()), bytes.size(),
-            [&](std::string_view line) { on_line(line, out); },
-            [&](std::size_t n) {
-                ++counters_.stream.long_lines;
-                discard(n, false);
-            });
-    }
-
-    void break_stream() override {
-        if (lines_.pending() > 0) discard(lines_.pending(), !lines_.discarding());
-        lines_.clear();
-    }
-
 private:
-    void on_line(std::string_view line, std::vector<Sample>& out) {
+    void on_line(std::string_view line, std::vector<Sample>& out) override {
         if (line.front() == '#') {
             deliver_message(line);
             return;
@@ -140,7 +123,6 @@ private:
         end_record();
     }
 
-    LineAssembler lines_;
     std::array<Reading, max_channels> readings_;
 };
 

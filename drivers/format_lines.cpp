@@ -8,8 +8,7 @@
 #include <array>
 #include <stdexcept>
 
-#include "line_assembler.hpp"
-#include "parser.hpp"
+#include "text_line_parser.hpp"
 #include "text_value.hpp"
 
 namespace tensile::drivers {
@@ -26,9 +25,9 @@ bool is_unit_word(std::string_view t) {
     });
 }
 
-class LinesParser final : public Parser {
+class LinesParser final : public TextLineParser {
 public:
-    explicit LinesParser(FormatConfig cfg) : Parser(std::move(cfg)), lines_(config_.max_line) {
+    explicit LinesParser(FormatConfig cfg) : TextLineParser(std::move(cfg)) {
         int highest = -1;
         auto use = [&](int pos, const char* what) {
             if (pos < 0 || pos >= static_cast<int>(max_fields))
@@ -49,22 +48,6 @@ public:
                                                : static_cast<std::size_t>(highest + 1);
         if (field_count_ <= static_cast<std::size_t>(highest) || field_count_ > max_fields)
             throw std::invalid_argument("lines format: field_count must cover every configured field (at most 64)");
-    }
-
-    void feed(std::span<const std::byte> bytes, std::vector<Sample>& out) override {
-        counters_.stream.bytes += bytes.size();
-        lines_.feed(
-            reinterpret_cast<const char*>(bytes.data()), bytes.size(),
-            [&](std::string_view line) { on_line(line, out); },
-            [&](std::size_t n) {
-                ++counters_.stream.long_lines;
-                discard(n, false);
-            });
-    }
-
-    void break_stream() override {
-        if (lines_.pending() > 0) discard(lines_.pending(), !lines_.discarding());
-        lines_.clear();
     }
 
 private:
@@ -103,7 +86,7 @@ private:
         return n;
     }
 
-    void on_line(std::string_view line, std::vector<Sample>& out) {
+    void on_line(std::string_view line, std::vector<Sample>& out) override {
         if (line.front() == '#') {
             deliver_message(line);
             return;
@@ -129,7 +112,6 @@ private:
         end_record();
     }
 
-    LineAssembler lines_;
     std::size_t field_count_ = 0;
     std::array<std::string_view, max_fields> fields_;
     std::array<Reading, max_fields> readings_;

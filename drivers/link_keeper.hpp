@@ -1,5 +1,6 @@
 // What TCP and serial sources share: capped exponential backoff with jitter,
-// the state machine's one-log-line-per-change policy, and gap bookkeeping.
+// the state machine's one-log-line-per-change policy, gap bookkeeping, and
+// the bounded queue of commands waiting to be written.
 //
 // Logging policy: every state change is one line. While a device stays away,
 // repeated failed attempts with the same reason are logged at debug level and
@@ -7,9 +8,14 @@
 // not flood the log.
 #pragma once
 
-#include <random>
+#include <deque>
 #include <memory>
+#include <random>
 #include <string>
+#include <utility>
+
+#include <boost/asio/io_context.hpp>
+#include <boost/asio/post.hpp>
 
 #include <spdlog/spdlog.h>
 
@@ -41,6 +47,49 @@ private:
     double current_ = 0;
 };
 
+// Commands waiting to be written to a device, bounded; shared by the sources
+// that can send. Never replayed on a later connection: a stale "resume" is
+// worse than none, so a lost link fails them all.
+class SendQueue {
+public:
+    using Done = ByteSource::SendDone;
+    explicit SendQueue(std::size_t max) : max_(max) {}
+
+    // Queues `bytes` unless the link is down or the queue full, in which case
+    // `done` is posted with the reason and false returned.
+    bool push(boost::asio::io_context& io, bool connected, std::string bytes, Done done) {
+        if (!connected || q_.size() >= max_) {
+            const auto err = !connected ? std::errc::not_connected : std::errc::no_buffer_space;
+            if (done) boost::asio::post(io, [d = std::move(done), err] { d(std::make_error_code(err)); });
+            return false;
+        }
+        q_.emplace_back(std::move(bytes), std::move(done));
+        return true;
+    }
+    // Fails everything queued with `why` (posted, so no handler runs inside the caller).
+    void fail_all(boost::asio::io_context& io, std::errc why) {
+        for (auto& [data, done] : q_)
+            if (done) boost::asio::post(io, [d = std::move(done), why] { d(std::make_error_code(why)); });
+        q_.clear();
+        writing = false;
+    }
+    [[nodiscard]] bool empty() const { return q_.empty(); }
+    [[nodiscard]] const std::string& front() const { return q_.front().first; }
+    // The front write completed with `ec`: removes it and tells its sender.
+    void pop(std::error_code ec) {
+        writing = false;
+        auto done = std::move(q_.front().second);
+        q_.pop_front();
+        if (done) done(ec);
+    }
+
+    bool writing = false;  // a write of front() is in flight
+
+private:
+    std::size_t max_;
+    std::deque<std::pair<std::string, Done>> q_;
+};
+
 class LinkKeeper {
 public:
     LinkKeeper(std::string name, std::shared_ptr<spdlog::logger> log)
@@ -66,6 +115,20 @@ public:
     void attempt_failed(std::string_view reason) {
         ++failed_attempts_;
         log_->debug("source {}: attempt {} failed: {}", name_, failed_attempts_, reason);
+    }
+
+    // An attempt or the link itself failed, whichever state the source was in:
+    // a link that was up opens a gap and goes waiting, a first attempt goes
+    // waiting, and retries while waiting stay quiet (counted).
+    void failed(std::string_view reason) {
+        if (state_ == SourceState::connected) {
+            lost(reason);
+            change(SourceState::waiting, "(" + std::string(reason) + ")");
+        } else if (state_ == SourceState::connecting) {
+            change(SourceState::waiting, "(" + std::string(reason) + ")");
+        } else {
+            attempt_failed(reason);
+        }
     }
 
     // The link was up and is now gone: opens a gap (once).

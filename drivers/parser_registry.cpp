@@ -9,12 +9,14 @@ namespace tensile::drivers {
 std::unique_ptr<Parser> make_lines_parser(const FormatConfig&);
 std::unique_ptr<Parser> make_keyvalue_parser(const FormatConfig&);
 std::unique_ptr<Parser> make_binary_parser(const FormatConfig&);
+std::unique_ptr<Parser> make_control_parser(const FormatConfig&);
 
 ParserRegistry builtin_formats() {
     ParserRegistry r;
     r.add({"lines", make_lines_parser, 64});
     r.add({"keyvalue", make_keyvalue_parser, 64});
     r.add({"binary", make_binary_parser, 32});
+    r.add({"control", make_control_parser, 64, false});
     return r;
 }
 

@@ -19,6 +19,7 @@ struct FormatInfo {
     std::string name;
     std::function<std::unique_ptr<Parser>(const FormatConfig&)> make;
     unsigned device_clock_bits = 64;  // width at which the device's µs clock wraps (binary: 32)
+    bool carries_channels = true;     // false for a command port: no [[channel]] tables
 };
 
 class ParserRegistry {

@@ -23,7 +23,8 @@ SerialSource::SerialSource(asio::io_context& io, SerialSourceConfig cfg, std::sh
       backoff_(cfg_.backoff, static_cast<std::uint32_t>(std::hash<std::string>{}(cfg_.path))),
       stream_(io),
       timer_(io),
-      buf_(cfg_.read_chunk) {}
+      buf_(cfg_.read_chunk),
+      sendq_(cfg_.max_send_queue) {}
 
 void SerialSource::start(SourceHandlers handlers) {
     keeper_.set_handlers(std::move(handlers));
@@ -43,10 +44,7 @@ void SerialSource::stop() {
     ++generation_;
     timer_.cancel();
     close_port();
-    for (auto& [data, done] : sendq_)
-        if (done) asio::post(io_, [d = std::move(done)] { d(std::make_error_code(std::errc::operation_canceled)); });
-    sendq_.clear();
-    writing_ = false;
+    sendq_.fail_all(io_, std::errc::operation_canceled);
     keeper_.change(SourceState::stopped, "");
 }
 
@@ -85,18 +83,8 @@ void SerialSource::fail(const std::string& reason) {
     if (!running_) return;
     ++generation_;
     close_port();
-    writing_ = false;
-    for (auto& [data, done] : sendq_)
-        if (done) asio::post(io_, [d = std::move(done)] { d(std::make_error_code(std::errc::not_connected)); });
-    sendq_.clear();
-    if (keeper_.state() == SourceState::connected) {
-        keeper_.lost(reason);
-        keeper_.change(SourceState::waiting, "(" + reason + ")");
-    } else if (keeper_.state() == SourceState::connecting) {
-        keeper_.change(SourceState::waiting, "(" + reason + ")");
-    } else {
-        keeper_.attempt_failed(reason);
-    }
+    sendq_.fail_all(io_, std::errc::not_connected);  // never replayed on a later connection
+    keeper_.failed(reason);
     auto self = shared_from_this();
     const auto gen = generation_;
     timer_.expires_after(std::chrono::duration_cast<std::chrono::steady_clock::duration>(
@@ -108,27 +96,18 @@ void SerialSource::fail(const std::string& reason) {
 }
 
 void SerialSource::send(std::string bytes, SendDone done) {
-    if (keeper_.state() != SourceState::connected || sendq_.size() >= cfg_.max_send_queue) {
-        const auto err = keeper_.state() != SourceState::connected ? std::errc::not_connected
-                                                                    : std::errc::no_buffer_space;
-        if (done) asio::post(io_, [d = std::move(done), err] { d(std::make_error_code(err)); });
-        return;
-    }
-    sendq_.emplace_back(std::move(bytes), std::move(done));
-    if (!writing_) write_next();
+    if (!sendq_.push(io_, keeper_.state() == SourceState::connected, std::move(bytes), std::move(done))) return;
+    if (!sendq_.writing) write_next();
 }
 
 void SerialSource::write_next() {
     if (sendq_.empty()) return;
-    writing_ = true;
+    sendq_.writing = true;
     auto self = shared_from_this();
     const auto gen = generation_;
-    asio::async_write(stream_, asio::buffer(sendq_.front().first), [this, self, gen](boost::system::error_code ec, std::size_t) {
+    asio::async_write(stream_, asio::buffer(sendq_.front()), [this, self, gen](boost::system::error_code ec, std::size_t) {
         if (gen != generation_) return;
-        writing_ = false;
-        auto done = std::move(sendq_.front().second);
-        sendq_.pop_front();
-        if (done) done(ec ? std::error_code(ec.value(), std::system_category()) : std::error_code{});
+        sendq_.pop(ec ? std::error_code(ec.value(), std::system_category()) : std::error_code{});
         if (ec) return fail("write failed: " + ec.message());
         write_next();
     });

@@ -61,8 +61,7 @@ private:
     boost::asio::posix::stream_descriptor stream_;
     boost::asio::steady_timer timer_;
     std::vector<std::byte> buf_;
-    std::deque<std::pair<std::string, SendDone>> sendq_;
-    bool writing_ = false;
+    SendQueue sendq_;
     bool running_ = false;
     std::uint64_t generation_ = 0;
 };

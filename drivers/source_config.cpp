@@ -89,7 +89,7 @@ SourceConfig load_source(const toml::table& t, const std::string& path, const Pa
     }
 
     auto& f = s.format;
-    f.format = r.required_text("format", "a wire format: one of binary, keyvalue, lines");
+    f.format = r.required_text("format", "a wire format: one of binary, control, keyvalue, lines");
     const FormatInfo* info = formats.find(f.format);
     if (!info) {
         std::string known;
@@ -118,11 +118,14 @@ SourceConfig load_source(const toml::table& t, const std::string& path, const Pa
     s.time.nominal_rate_hz = f.nominal_rate_hz;
 
     const toml::node* chans = r.node("channel");
-    if (!chans || !chans->is_array_of_tables() || chans->as_array()->empty())
+    if (!info->carries_channels) {
+        if (chans) r.fail("channel", "no [[" + path + ".channel]] tables: a \"" + f.format + "\" source is a command port and carries no data", chans);
+    } else if (!chans || !chans->is_array_of_tables() || chans->as_array()->empty()) {
         r.fail("channel", "one or more [[" + path + ".channel]] tables", chans);
+    }
     std::set<std::string> names;
     std::size_t i = 0;
-    for (const auto& el : *chans->as_array()) {
+    if (chans) for (const auto& el : *chans->as_array()) {
         const std::string cpath = path + ".channel[" + std::to_string(i++) + "]";
         ChannelSpec c = load_channel(*el.as_table(), cpath, f.format);
         if (!names.insert(c.name).second)

@@ -30,7 +30,8 @@ TcpSource::TcpSource(asio::io_context& io, TcpSourceConfig cfg, std::shared_ptr<
       socket_(io),
       timer_(io),
       watchdog_(io),
-      buf_(cfg_.read_chunk) {}
+      buf_(cfg_.read_chunk),
+      sendq_(cfg_.max_send_queue) {}
 
 void TcpSource::start(SourceHandlers handlers) {
     keeper_.set_handlers(std::move(handlers));
@@ -46,9 +47,7 @@ void TcpSource::stop() {
     timer_.cancel();
     watchdog_.cancel();
     socket_.close(ignored);
-    for (auto& [data, done] : sendq_)
-        if (done) asio::post(io_, [d = std::move(done)] { d(std::make_error_code(std::errc::operation_canceled)); });
-    sendq_.clear();
+    sendq_.fail_all(io_, std::errc::operation_canceled);
     keeper_.change(SourceState::stopped, "");
 }
 
@@ -99,7 +98,7 @@ void TcpSource::on_connected() {
     keeper_.change(SourceState::connected, "to " + cfg_.host + ":" + std::to_string(cfg_.port));
     read();
     if (cfg_.silence_timeout_s > 0) watch_silence();
-    if (!sendq_.empty() && !writing_) write_next();
+    if (!sendq_.empty() && !sendq_.writing) write_next();
 }
 
 void TcpSource::read() {
@@ -133,19 +132,8 @@ void TcpSource::fail(const std::string& reason) {
     socket_.close(ignored);
     timer_.cancel();
     watchdog_.cancel();
-    // Never replay queued commands on a later connection: a stale "resume" is worse than none.
-    writing_ = false;
-    for (auto& [data, done] : sendq_)
-        if (done) asio::post(io_, [d = std::move(done)] { d(std::make_error_code(std::errc::not_connected)); });
-    sendq_.clear();
-    if (keeper_.state() == SourceState::connected) {
-        keeper_.lost(reason);
-        keeper_.change(SourceState::waiting, "(" + reason + ")");
-    } else if (keeper_.state() == SourceState::connecting) {
-        keeper_.change(SourceState::waiting, "(" + reason + ")");
-    } else {
-        keeper_.attempt_failed(reason);  // retries while waiting stay quiet
-    }
+    sendq_.fail_all(io_, std::errc::not_connected);  // never replayed on a later connection
+    keeper_.failed(reason);
     schedule_retry();
 }
 
@@ -161,27 +149,18 @@ void TcpSource::schedule_retry() {
 }
 
 void TcpSource::send(std::string bytes, SendDone done) {
-    if (keeper_.state() != SourceState::connected || sendq_.size() >= cfg_.max_send_queue) {
-        const auto err = keeper_.state() != SourceState::connected ? std::errc::not_connected
-                                                                    : std::errc::no_buffer_space;
-        if (done) asio::post(io_, [d = std::move(done), err] { d(std::make_error_code(err)); });
-        return;
-    }
-    sendq_.emplace_back(std::move(bytes), std::move(done));
-    if (!writing_) write_next();
+    if (!sendq_.push(io_, keeper_.state() == SourceState::connected, std::move(bytes), std::move(done))) return;
+    if (!sendq_.writing) write_next();
 }
 
 void TcpSource::write_next() {
     if (sendq_.empty()) return;
-    writing_ = true;
+    sendq_.writing = true;
     auto self = shared_from_this();
     const auto gen = generation_;
-    asio::async_write(socket_, asio::buffer(sendq_.front().first), [this, self, gen](boost::system::error_code ec, std::size_t) {
+    asio::async_write(socket_, asio::buffer(sendq_.front()), [this, self, gen](boost::system::error_code ec, std::size_t) {
         if (gen != generation_) return;  // connection gone; the queue was left for the next one
-        writing_ = false;
-        auto done = std::move(sendq_.front().second);
-        sendq_.pop_front();
-        if (done) done(ec ? std::error_code(ec.value(), std::system_category()) : std::error_code{});
+        sendq_.pop(ec ? std::error_code(ec.value(), std::system_category()) : std::error_code{});
         if (ec) return fail("write failed: " + ec.message());
         write_next();
     });

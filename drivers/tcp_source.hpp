@@ -66,8 +66,7 @@ private:
     boost::asio::steady_timer timer_;     // connect timeout, then retry delay
     boost::asio::steady_timer watchdog_;  // silence timeout
     std::vector<std::byte> buf_;
-    std::deque<std::pair<std::string, SendDone>> sendq_;
-    bool writing_ = false;
+    SendQueue sendq_;
     bool running_ = false;
     std::uint64_t generation_ = 0;  // bumps per connection so stale handlers ignore themselves
     double last_rx_s_ = 0;

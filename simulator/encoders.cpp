@@ -111,34 +111,35 @@ void Encoder::begin(std::string& out) const {
 }
 
 void Encoder::append(std::string& out, const Sample& s) {
+    const bool f = channels_ & channel_bit(ChannelId::force);
+    const bool x = channels_ & channel_bit(ChannelId::extension);
+    const bool h = channels_ & channel_bit(ChannelId::crosshead);
     switch (format_) {
         case Format::lines:
             append_uint(out, s.device_time_us);
-            out.push_back(',');
-            append_reading(out, s.force, force_decimals, " N");
-            out.push_back(',');
-            append_reading(out, s.extension, extension_decimals, " mm");
-            out.push_back(',');
-            append_reading(out, s.crosshead, crosshead_decimals, " mm");
+            if (f) { out.push_back(','); append_reading(out, s.force, force_decimals, " N"); }
+            if (x) { out.push_back(','); append_reading(out, s.extension, extension_decimals, " mm"); }
+            if (h) { out.push_back(','); append_reading(out, s.crosshead, crosshead_decimals, " mm"); }
             out += eol_;
             return;
         case Format::keyvalue:
             out += "t=";
             append_uint(out, s.device_time_us);
-            out += " F=";
-            append_reading(out, s.force, force_decimals, "");
-            out += " ext=";
-            append_reading(out, s.extension, extension_decimals, "");
-            out += " xh=";
-            append_reading(out, s.crosshead, crosshead_decimals, "");
+            if (f) { out += " F="; append_reading(out, s.force, force_decimals, ""); }
+            if (x) { out += " ext="; append_reading(out, s.extension, extension_decimals, ""); }
+            if (h) { out += " xh="; append_reading(out, s.crosshead, crosshead_decimals, ""); }
             out += eol_;
             return;
         case Format::binary: {
-            const std::int32_t counts[3] = {to_count(s.force), to_count(s.extension), to_count(s.crosshead)};
-            append_binary_frame(out, seq_++, static_cast<std::uint32_t>(s.device_time_us), counts, 3);
+            std::int32_t counts[3];
+            int n = 0;
+            if (f) counts[n++] = to_count(s.force);
+            if (x) counts[n++] = to_count(s.extension);
+            if (h) counts[n++] = to_count(s.crosshead);
+            append_binary_frame(out, seq_++, static_cast<std::uint32_t>(s.device_time_us), counts, n);
             return;
         }
-        case Format::table:
+        case Format::table:  // always the aligned frame of all three channels
             append_fixed(out, static_cast<std::int64_t>(s.device_time_us), 6);
             out.push_back(',');
             append_cell(out, s.force, force_decimals);

@@ -142,14 +142,20 @@ void FaultPlan::apply(Sample& s, double t) {
 
 void FaultPlan::after_record(std::string& out, std::size_t start, double t) {
     // Tearing first, so garbage lands after the torn piece as it would on a line.
+    Fault* torn_by = nullptr;
     for (Fault& f : faults_) {
         if (f.kind != FaultKind::torn || !f.active(t)) continue;
         const std::size_t len = out.size() - start;
         if (len > 2 && rng_.uniform() < f.amount) {
             out.resize(start + 1 + rng_.below(len - 2));  // keep 1..len-2 bytes: the line end is lost
             ++f.records_affected;
+            f.fragment_bytes += out.size() - start;
+            if (!tearing_ && !torn_by) ++f.torn_runs;
+            torn_by = &f;
         }
     }
+    if (!torn_by && tearing_) tearing_->glued_bytes += out.size() - start;  // this whole record ends the run
+    tearing_ = torn_by;
     for (Fault& f : faults_) {
         if (f.kind != FaultKind::garbage || !f.active(t)) continue;
         garbage_credit_ += f.amount / rate_hz_;

@@ -34,6 +34,11 @@ struct Fault {
     // What was done, for the truth file.
     std::uint64_t records_affected = 0;
     std::uint64_t bytes_injected = 0;
+    // Torn records, as a reader sees them: a torn record has lost its line
+    // end, so it runs into the next whole record, which is lost with it.
+    std::uint64_t torn_runs = 0;        // runs of consecutive torn records (one bad line each on a text link)
+    std::uint64_t fragment_bytes = 0;   // bytes the torn records left on the wire
+    std::uint64_t glued_bytes = 0;      // bytes of the whole records the runs ran into
 
     [[nodiscard]] bool active(double t) const { return t >= start_s && t < start_s + duration_s; }
 };
@@ -61,6 +66,7 @@ private:
     Random rng_;
     double rate_hz_;
     double garbage_credit_ = 0;
+    Fault* tearing_ = nullptr;  // the fault that tore the previous record, if it was torn
     ChannelReading frozen_[3]{};
     bool frozen_valid_[3]{};
 };

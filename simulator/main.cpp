@@ -7,10 +7,12 @@
 #include <csignal>
 #include <fstream>
 #include <iostream>
+#include <sstream>
 
 #include <CLI/CLI.hpp>
 
 #include "commands.hpp"
+#include "links.hpp"
 #include "material_file.hpp"
 #include "presets.hpp"
 #include "replay.hpp"
@@ -73,7 +75,8 @@ int main(int argc, char** argv) {
     SensorConfig sc;
     double switch_pct = 1.0, crosshead_mm_min = 0, load_cell_kN = 100;
     std::optional<double> ext_off_pct;
-    std::vector<std::string> at_specs, fault_specs;
+    std::vector<std::string> at_specs, fault_specs, link_specs;
+    std::string control_spec;
 
     app.add_option("--material", material, "preset name or TOML material file (see --list-materials)");
     app.add_flag("--list-materials", list, "print the built-in presets, one per line, and exit");
@@ -81,8 +84,15 @@ int main(int argc, char** argv) {
     auto* o_out = app.add_option("--out", out, "write the stream to FILE ('-' for stdout, the default)");
     auto* o_tcp = app.add_option("--tcp", tcp, "serve the stream to one TCP client at a time on HOST:PORT (port 0: any free one)");
     auto* o_pty = app.add_flag("--pty", pty, "serve the stream on a pseudo-terminal; its path is the first line on stdout");
-    o_out->excludes(o_tcp)->excludes(o_pty);
-    o_tcp->excludes(o_pty);
+    auto* o_link = app.add_option("--link", link_specs,
+                                  "channels on a connection of their own: CHANNELS[@RATE]=TARGET, TARGET being pty, "
+                                  "tcp:HOST:PORT or file:PATH, e.g. force@1000=tcp:127.0.0.1:0 (repeatable)");
+    app.add_option("--control", control_spec,
+                   "a command port beside the stream: tcp:HOST:PORT or pty; commands there are answered there "
+                   "(the way to command a binary stream)");
+    o_out->excludes(o_tcp)->excludes(o_pty)->excludes(o_link);
+    o_tcp->excludes(o_pty)->excludes(o_link);
+    o_pty->excludes(o_link);
     auto* o_fast = app.add_flag("--fast", fast, "generate as fast as the reader takes (the default)");
     auto* o_rt = app.add_flag("--realtime", realtime, "pace by the wall clock");
     o_fast->excludes(o_rt);
@@ -173,13 +183,59 @@ int main(int argc, char** argv) {
         truth_file.open(truth_path);
         if (!truth_file) return refuse("--truth: cannot open '" + truth_path + "' for writing");
     }
-    Result<std::unique_ptr<Sink>> sink = Error{"no output"};
-    if (!tcp.empty()) sink = open_tcp_sink(tcp, std::cout);
-    else if (pty) sink = open_pty_sink(std::cout);
-    else sink = open_file_sink(out);
-    if (!sink) return refuse(sink.error());
+    std::vector<LinkSpec> links;
+    for (const std::string& spec : link_specs) {
+        auto l = parse_link(spec);
+        if (!l) return refuse(l.error());
+        links.push_back(*l);
+    }
+    if (const auto why = check_links(links)) return refuse(*why);
+    if (!links.empty() && rs.format == Format::table)
+        return refuse("--link with --format table: the table is one aligned frame per line; expected lines, keyvalue or binary");
+    if (!control_spec.empty() && control_spec != "pty" && control_spec.substr(0, 4) != "tcp:")
+        return refuse("--control '" + control_spec + "'; expected tcp:HOST:PORT or pty");
 
-    const RunRecord record = run_test(in, rs, **sink);
+    // Every check is done: open the outputs, announcing each on stdout.
+    std::vector<std::unique_ptr<Sink>> sinks;
+    std::vector<LinkOut> outs;
+    if (links.empty()) {
+        Result<std::unique_ptr<Sink>> sink = Error{"no output"};
+        if (!tcp.empty()) sink = open_tcp_sink(tcp, std::cout);
+        else if (pty) sink = open_pty_sink(std::cout);
+        else sink = open_file_sink(out);
+        if (!sink) return refuse(sink.error());
+        sinks.push_back(std::move(*sink));
+        outs.push_back({all_channels, 0, {}, sinks.back().get(), ""});
+    }
+    for (std::size_t k = 0; k < links.size(); ++k) {
+        const LinkSpec& l = links[k];
+        const std::string option = "--link '" + l.spec + "'";
+        const std::string label = channel_names(l.channels);
+        std::ostringstream announced;
+        Result<std::unique_ptr<Sink>> sink = Error{"no output"};
+        switch (l.target) {
+            case LinkTarget::tcp: sink = open_tcp_sink(l.where, announced, option, label); break;
+            case LinkTarget::pty: sink = open_pty_sink(announced, option, label); break;
+            case LinkTarget::file: sink = open_file_sink(l.where, option); announced << "file " << l.where << "\n"; break;
+        }
+        if (!sink) return refuse(sink.error());
+        std::string target = announced.str();
+        if (l.target != LinkTarget::file) std::cout << target << std::flush;
+        target = target.substr(0, target.find('\n'));
+        if (l.target != LinkTarget::file) target = target.substr(0, target.rfind(' '));  // drop the label
+        sinks.push_back(std::move(*sink));
+        outs.push_back({l.channels, l.rate_hz, clock_for(rs.seed, k), sinks.back().get(), target});
+    }
+    rs.separate_links = !links.empty();
+    std::unique_ptr<Sink> control;
+    if (!control_spec.empty()) {
+        auto c = control_spec == "pty" ? open_pty_sink(std::cout, "--control", "control")
+                                       : open_tcp_sink(control_spec.substr(4), std::cout, "--control", "control");
+        if (!c) return refuse(c.error());
+        control = std::move(*c);
+    }
+
+    const RunRecord record = run_test(in, rs, std::move(outs), control.get());
     if (truth_file.is_open()) {
         truth_file << truth_json(in.truth, record).dump(2) << "\n";
         if (!truth_file) {

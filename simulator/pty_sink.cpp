@@ -4,6 +4,7 @@
 // its settings and a reader may close and reopen it (a reconnect). A
 // disconnect fault on a pty is silence: a serial line has no connection to drop.
 #include <cerrno>
+#include <cstdio>
 #include <chrono>
 #include <cstring>
 #include <thread>
@@ -53,12 +54,38 @@ public:
         return out;
     }
 
+    // Drains before the pty may close: closing the master hangs the slave up
+    // and throws away whatever the reader has not taken yet. FIONREAD on the
+    // slave counts only the line discipline's buffer (4 KiB), not the bytes
+    // still waiting in the tty layer behind it, so it reads 0 for a moment
+    // each time the reader empties that buffer while the rest is on its way.
+    // Only a queue that stays empty for `settle` counts as drained. A slow
+    // reader keeps that buffer full while it reads, so progress cannot be
+    // seen in it: `give_up` (counted from the last change of the queue) is
+    // long enough for a 9600-baud reader to take the ~18 KB a pty holds;
+    // after it the sink closes anyway and says so on stderr.
     void finish() override {
-        // Give the reader up to 5 s to take what is still queued before the pty goes.
-        for (int i = 0; i < 500; ++i) {
+        using namespace std::chrono;
+        constexpr milliseconds settle(100), give_up(30000), step(5);
+        auto progress_at = steady_clock::now();  // last time the queue changed
+        auto empty_since = progress_at;
+        int last_queued = -1;
+        for (;;) {
             int queued = 0;
-            if (::ioctl(slave_, FIONREAD, &queued) != 0 || queued == 0) return;
-            std::this_thread::sleep_for(std::chrono::milliseconds(10));
+            if (::ioctl(slave_, FIONREAD, &queued) != 0) return;
+            const auto now = steady_clock::now();
+            if (queued != last_queued) {
+                progress_at = now;
+                if (queued == 0) empty_since = now;
+                last_queued = queued;
+            }
+            if (queued == 0 && now - empty_since >= settle) return;
+            if (queued > 0 && now - progress_at >= give_up) {
+                std::fprintf(stderr, "tensile-sim: pty: the reader took nothing for %lld s; closing with %d bytes or more unread\n",
+                             static_cast<long long>(duration_cast<seconds>(give_up).count()), queued);
+                return;
+            }
+            std::this_thread::sleep_for(step);
         }
     }
 
@@ -69,18 +96,18 @@ private:
 
 }  // namespace
 
-Result<std::unique_ptr<Sink>> open_pty_sink(std::ostream& announce) {
+Result<std::unique_ptr<Sink>> open_pty_sink(std::ostream& announce, const std::string& option, const std::string& label) {
     const int master = ::posix_openpt(O_RDWR | O_NOCTTY | O_CLOEXEC);
-    if (master < 0) return Error{std::string("--pty: cannot open a pseudo-terminal: ") + std::strerror(errno)};
+    if (master < 0) return Error{std::string(option + ": cannot open a pseudo-terminal: ") + std::strerror(errno)};
     if (::grantpt(master) != 0 || ::unlockpt(master) != 0) {
         const std::string why = std::strerror(errno);
         ::close(master);
-        return Error{"--pty: cannot unlock the pseudo-terminal: " + why};
+        return Error{option + ": cannot unlock the pseudo-terminal: " + why};
     }
     char name[128];
     if (::ptsname_r(master, name, sizeof name) != 0) {
         ::close(master);
-        return Error{"--pty: cannot name the pseudo-terminal"};
+        return Error{option + ": cannot name the pseudo-terminal"};
     }
     const int slave = ::open(name, O_RDWR | O_NOCTTY | O_CLOEXEC);
     termios t{};
@@ -88,11 +115,11 @@ Result<std::unique_ptr<Sink>> open_pty_sink(std::ostream& announce) {
         const std::string why = std::strerror(errno);
         if (slave >= 0) ::close(slave);
         ::close(master);
-        return Error{"--pty: cannot open " + std::string(name) + ": " + why};
+        return Error{option + ": cannot open " + std::string(name) + ": " + why};
     }
     ::cfmakeraw(&t);
     ::tcsetattr(slave, TCSANOW, &t);
-    announce << "pty " << name << std::endl;
+    announce << "pty " << name << (label.empty() ? "" : " ") << label << std::endl;
     return std::unique_ptr<Sink>(std::make_unique<PtySink>(master, slave));
 }
 

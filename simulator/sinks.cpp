@@ -41,10 +41,10 @@ private:
 
 }  // namespace
 
-Result<std::unique_ptr<Sink>> open_file_sink(const std::string& path) {
+Result<std::unique_ptr<Sink>> open_file_sink(const std::string& path, const std::string& option) {
     if (path == "-") return std::unique_ptr<Sink>(std::make_unique<FileSink>(1, false));
     const int fd = ::open(path.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
-    if (fd < 0) return Error{"--out: cannot open '" + path + "' for writing: " + std::strerror(errno)};
+    if (fd < 0) return Error{option + ": cannot open '" + path + "' for writing: " + std::strerror(errno)};
     return std::unique_ptr<Sink>(std::make_unique<FileSink>(fd, true));
 }
 

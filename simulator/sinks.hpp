@@ -29,10 +29,15 @@ public:
     virtual void finish() {}
 };
 
-Result<std::unique_ptr<Sink>> open_file_sink(const std::string& path);  // "-" is stdout
+// `option` names the command-line option in error messages; `label`, when not
+// empty, follows the announcement after a space ("tcp 127.0.0.1:7701 force"),
+// so a reader of several links knows which is which.
+Result<std::unique_ptr<Sink>> open_file_sink(const std::string& path, const std::string& option = "--out");  // "-" is stdout
 // Listens on HOST:PORT (port 0 picks a free one) and writes "tcp HOST:PORT" to announce.
-Result<std::unique_ptr<Sink>> open_tcp_sink(const std::string& host_port, std::ostream& announce);
+Result<std::unique_ptr<Sink>> open_tcp_sink(const std::string& host_port, std::ostream& announce,
+                                            const std::string& option = "--tcp", const std::string& label = "");
 // Opens a pseudo-terminal in raw mode and writes "pty /dev/pts/N" to announce.
-Result<std::unique_ptr<Sink>> open_pty_sink(std::ostream& announce);
+Result<std::unique_ptr<Sink>> open_pty_sink(std::ostream& announce, const std::string& option = "--pty",
+                                            const std::string& label = "");
 
 }  // namespace tensile::sim

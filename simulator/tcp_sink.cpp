@@ -100,21 +100,22 @@ private:
 
 }  // namespace
 
-Result<std::unique_ptr<Sink>> open_tcp_sink(const std::string& host_port, std::ostream& announce) {
+Result<std::unique_ptr<Sink>> open_tcp_sink(const std::string& host_port, std::ostream& announce, const std::string& option,
+                                            const std::string& label) {
     const auto colon = host_port.rfind(':');
     if (colon == std::string::npos || colon == 0 || colon + 1 == host_port.size())
-        return Error{"--tcp '" + host_port + "': expected HOST:PORT, e.g. 127.0.0.1:7700"};
+        return Error{option + " '" + host_port + "': expected HOST:PORT, e.g. 127.0.0.1:7700"};
     const std::string host = host_port.substr(0, colon);
     const std::string port = host_port.substr(colon + 1);
     auto sink = std::make_unique<TcpSink>();
     boost::system::error_code ec;
     tcp::resolver resolver(sink->io());
     const auto endpoints = resolver.resolve(host, port, tcp::resolver::passive | tcp::resolver::numeric_service, ec);
-    if (ec || endpoints.empty()) return Error{"--tcp '" + host_port + "': cannot resolve: " + ec.message()};
+    if (ec || endpoints.empty()) return Error{option + " '" + host_port + "': cannot resolve: " + ec.message()};
     if (const std::string why = sink->listen(*endpoints.begin()); !why.empty())
-        return Error{"--tcp '" + host_port + "': cannot listen: " + why};
+        return Error{option + " '" + host_port + "': cannot listen: " + why};
     const auto bound = sink->local();
-    announce << "tcp " << bound.address().to_string() << ":" << bound.port() << std::endl;
+    announce << "tcp " << bound.address().to_string() << ":" << bound.port() << (label.empty() ? "" : " ") << label << std::endl;
     return std::unique_ptr<Sink>(std::move(sink));
 }
 

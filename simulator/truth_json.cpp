@@ -32,8 +32,10 @@ nlohmann::ordered_json truth_json(const MaterialTruth& t, const RunRecord& r) {
 
     auto& faults = j["faults"];
     faults = nlohmann::ordered_json::array();
-    for (const Fault& f : r.faults) {
+    for (std::size_t i = 0; i < r.faults.size(); ++i) {
+        const Fault& f = r.faults[i];
         nlohmann::ordered_json e;
+        if (i < r.fault_links.size()) e["link"] = r.fault_links[i];
         e["kind"] = name_of(f.kind);
         e["spec"] = f.spec;
         e["start_s"] = f.start_s;
@@ -42,6 +44,11 @@ nlohmann::ordered_json truth_json(const MaterialTruth& t, const RunRecord& r) {
         if (f.kind == FaultKind::clock_jump) e["jump_s"] = f.amount;
         if (f.kind == FaultKind::garbage) e["bytes"] = f.bytes_injected;
         else e["records"] = f.records_affected;
+        if (f.kind == FaultKind::torn) {
+            e["runs"] = f.torn_runs;
+            e["fragment_bytes"] = f.fragment_bytes;
+            e["glued_bytes"] = f.glued_bytes;
+        }
         faults.push_back(std::move(e));
     }
     auto& commands = j["commands"];
@@ -50,6 +57,14 @@ nlohmann::ordered_json truth_json(const MaterialTruth& t, const RunRecord& r) {
         commands.push_back({{"time_s", c.time_s}, {"line", c.line}, {"answer", c.answer}, {"from", c.from}});
 
     j["run"] = {{"seed", r.seed}, {"format", r.format}, {"rate_hz", r.rate_hz}, {"samples", r.samples}};
+    if (!r.links.empty()) {
+        auto& links = j["links"];
+        links = nlohmann::ordered_json::array();
+        for (const LinkRecord& l : r.links)
+            links.push_back({{"channels", l.channels}, {"target", l.target}, {"rate_hz", l.rate_hz},
+                             {"clock_offset_s", l.clock_offset_s}, {"clock_drift_ppm", l.clock_drift_ppm},
+                             {"samples", l.samples}, {"bytes", l.bytes}});
+    }
     return j;
 }
 

@@ -24,6 +24,17 @@ struct CommandLog {
     std::string from;    // "connection" or "schedule"
 };
 
+// One connection of a run with separate links.
+struct LinkRecord {
+    std::string channels;      // "force" or "force,crosshead"
+    std::string target;
+    double rate_hz = 0;
+    double clock_offset_s = 0;
+    double clock_drift_ppm = 0;
+    std::uint64_t samples = 0;
+    std::uint64_t bytes = 0;   // bytes written to the connection (garbage included)
+};
+
 struct RunRecord {
     std::string material;
     std::string description;
@@ -36,7 +47,9 @@ struct RunRecord {
     double end_s = 0;
     std::uint64_t samples = 0;
     std::vector<Fault> faults;
+    std::vector<std::string> fault_links;  // with separate links: the link's channels, per fault
     std::vector<CommandLog> commands;
+    std::vector<LinkRecord> links;         // only with separate links
 };
 
 nlohmann::ordered_json truth_json(const MaterialTruth& truth, const RunRecord& run);

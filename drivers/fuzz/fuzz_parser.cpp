@@ -30,7 +30,7 @@ FormatConfig config() {
     ext.field = 2;
     ext.key = "ext";
     ext.scale = f.format == "binary" ? 0.0001 : 1.0;
-    f.channels = {force, ext};
+    if (f.format != "control") f.channels = {force, ext};  // a command port carries no channels
     if (f.format == "lines") f.time_field = 0;
     return f;
 }

@@ -216,5 +216,5 @@ TEST_CASE("lines: bad configuration is refused at start-up", "[lines][config]") 
     cfg.counter_field = 4;
     CHECK_THROWS_WITH(reg.make(cfg), Catch::Contains("not both"));
     cfg.format = "morse";
-    CHECK_THROWS_WITH(reg.make(cfg), Catch::Contains("expected one of: binary, keyvalue, lines"));
+    CHECK_THROWS_WITH(reg.make(cfg), Catch::Contains("expected one of: binary, control, keyvalue, lines"));
 }

@@ -3,6 +3,9 @@
 // lines, and one that stays silent; relay output on a pty (no modem lines).
 #include <catch2/catch.hpp>
 
+#include <cerrno>
+#include <sys/ioctl.h>
+
 #include <fcntl.h>
 #include <unistd.h>
 
@@ -123,7 +126,17 @@ TEST_CASE("relay: RTS on a pty reports the failure", "[outputs][pty]") {
     port->start({});
     REQUIRE(port->state() == SourceState::connected);
     RelayOutput relay("hold-relay", port, ModemLine::dtr);
-    CHECK(relay.set(true));  // Linux ptys have no modem lines
+    // The Linux pty driver implements no modem-control ioctls (TIOCMGET, TIOCMBIS
+    // and TIOCMBIC answer ENOTTY), so the relay's success path cannot be shown on
+    // a pty; it needs a real port. The failure must be the kernel's answer, passed on.
+    const int slave = ::open(pc.path.c_str(), O_RDWR | O_NOCTTY);
+    REQUIRE(slave >= 0);
+    int lines = 0;
+    CHECK(::ioctl(slave, TIOCMGET, &lines) == -1);
+    CHECK(errno == ENOTTY);
+    ::close(slave);
+    CHECK(relay.set(true) == std::errc::inappropriate_io_control_operation);
+    CHECK(relay.set(false) == std::errc::inappropriate_io_control_operation);
     port->stop();
     ::close(master);
 }

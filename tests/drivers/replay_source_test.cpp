@@ -42,12 +42,14 @@ Replayed replay(ReplaySourceConfig cfg) {
     boost::asio::io_context io;
     auto src = ReplaySource::create(io, cfg);
     Replayed r;
+    // From before start(): start() already schedules the timed records, so a
+    // clock read after it (late on a loaded machine) would shorten the span.
+    const auto t0 = std::chrono::steady_clock::now();
     src->start({[&](std::span<const std::byte> b, double t) {
                     r.bytes.append(reinterpret_cast<const char*>(b.data()), b.size());
                     r.times.push_back(t);
                 },
                 [&](SourceState s) { r.states.push_back(s); }, nullptr});
-    const auto t0 = std::chrono::steady_clock::now();
     io.run_for(std::chrono::seconds(3));
     r.elapsed = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
     return r;

@@ -110,7 +110,7 @@ TEST_CASE("config: bad entries name the key and the expected value", "[config]")
     CHECK(error_of(with("port = 4001", "port = 70000")) == "source.ext.port (line 25): expected a TCP port, 1 to 65535, got 70000");
     CHECK(error_of(with("baud = 230400", "baudrate = 230400")).starts_with("source.load.baudrate (line 5): unknown key"));
     CHECK(error_of(with("format = \"binary\"", "format = \"morse\"")) ==
-          "source.ext.format (line 27): expected a wire format: one of binary, keyvalue, lines, got \"morse\"");
+          "source.ext.format (line 27): expected a wire format: one of binary, control, keyvalue, lines, got \"morse\"");
     CHECK(error_of(with("  field = 1\n", "")) ==
           "source.load.channel[0].field: expected the field position of this channel, 0 to 63 (required for format \"lines\")");
     CHECK(error_of(with("source = \"load\"\nack", "source = \"lod\"\nack")) ==

@@ -13,6 +13,7 @@
 #include <sys/wait.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <chrono>
 #include <climits>
 #include <cmath>
@@ -292,5 +293,103 @@ TEST_CASE("pty: the path comes first on stdout, data and answers flow") {
     ::close(fd);
     if (!WIFEXITED(status)) CHECK(wait_exit(pid) == 0);
     else CHECK(WEXITSTATUS(status) == 0);
+    fs::remove_all(dir);
+}
+
+// wire-formats.md: a binary stream carries no text, so its commands go to a
+// control port beside it and are answered there. Every command of the
+// contract is acknowledged, a bad one refused, and the truth says where each came from.
+TEST_CASE("binary stream: commands on the control port are answered there") {
+    const fs::path dir = scratch();
+    const pid_t pid = spawn({"--tcp", "127.0.0.1:0", "--control", "tcp:127.0.0.1:0", "--format", "binary", "--realtime", "--speed",
+                             "20", "--material", "harbourline-dc04-lot5", "--truth", (dir / "ctl.json").string()},
+                            dir / "announce.txt");
+    std::string announced;
+    for (int i = 0; i < 500 && std::count(announced.begin(), announced.end(), '\n') < 2; ++i) {
+        std::this_thread::sleep_for(std::chrono::milliseconds(10));
+        announced = slurp(dir / "announce.txt");
+    }
+    std::istringstream lines(announced);
+    std::string data_line, control_line;
+    std::getline(lines, data_line);
+    std::getline(lines, control_line);
+    REQUIRE_THAT(data_line, Catch::Matches("tcp 127\\.0\\.0\\.1:[0-9]+"));
+    REQUIRE_THAT(control_line, Catch::Matches("tcp 127\\.0\\.0\\.1:[0-9]+ control"));
+    auto dial = [](const std::string& line) {
+        const auto colon = line.find(':');
+        const int port = std::stoi(line.substr(colon + 1, line.find(' ', colon) - colon - 1));
+        const int fd = ::socket(AF_INET, SOCK_STREAM, 0);
+        sockaddr_in a{};
+        a.sin_family = AF_INET;
+        a.sin_port = htons(static_cast<std::uint16_t>(port));
+        a.sin_addr.s_addr = htonl(INADDR_LOOPBACK);
+        REQUIRE(::connect(fd, reinterpret_cast<sockaddr*>(&a), sizeof a) == 0);
+        return fd;
+    };
+    const int data = dial(data_line);
+    std::string stream;
+    read_until(data, "\xA5\x5A", stream);  // the test runs once the stream's reader is there
+    const int control = dial(control_line);
+    std::string answers;
+    for (const std::string command : {"hold", "resume", "extensometer-off", "bogus", "ping"}) {
+        const std::string ask = command + "\n";
+        REQUIRE(::write(control, ask.data(), ask.size()) == static_cast<ssize_t>(ask.size()));
+        read_until(control, command == "bogus" ? "#error" : "#ok " + command + "\n", answers);
+    }
+    const std::string stop = "stop\n";
+    REQUIRE(::write(control, stop.data(), stop.size()) == 5);
+    read_until(control, "#ok stop\n", answers);
+    CHECK(answers ==
+          "#ok hold\n#ok resume\n#ok extensometer-off\n"
+          "#error unknown command 'bogus'; expected hold, resume, stop, extensometer-off or ping\n#ok ping\n#ok stop\n");
+    std::string tail;
+    read_until(data, "never", tail);  // the run ends shortly after stop: EOF
+    ::close(data);
+    ::close(control);
+    CHECK(wait_exit(pid) == 0);
+    stream += tail;
+    CHECK(stream.find("#ok") == std::string::npos);  // no text in the binary stream
+    const auto truth = nlohmann::json::parse(slurp(dir / "ctl.json"));
+    REQUIRE(truth["commands"].size() == 6);
+    for (const auto& c : truth["commands"]) CHECK(c["from"] == "control");
+    CHECK(truth["times"].contains("extensometer_off_s"));
+    fs::remove_all(dir);
+}
+
+// A pty holds about 18 KB between writer and reader. A reader as slow as a
+// 38400-baud line (3 KB/s here) needs about 6 s to take that tail after the
+// simulator has written its last byte; the pty must stay open until it has,
+// or the tail is thrown away when the master closes. The bytes must equal a
+// file run with the same seed (same seed, same bytes).
+TEST_CASE("pty: a slow reader still gets every byte before the pty closes") {
+    const fs::path dir = scratch();
+    const std::vector<std::string> opts{"--fast", "--seed", "4", "--rate", "100", "--max-time", "6", "--format", "lines"};
+    std::string file_args = "--out " + (dir / "same.txt").string();
+    for (const auto& o : opts) file_args += " " + o;
+    REQUIRE(run(file_args) == 0);
+    const std::string expected = slurp(dir / "same.txt");
+    REQUIRE(expected.size() > 20000);  // more than the pty holds
+    std::vector<std::string> args{"--pty"};
+    args.insert(args.end(), opts.begin(), opts.end());
+    const pid_t pid = spawn(args, dir / "announce.txt");
+    const std::string announce = first_line_of(dir / "announce.txt");
+    REQUIRE_THAT(announce, Catch::StartsWith("pty /dev/"));
+    const int fd = ::open(announce.substr(4).c_str(), O_RDONLY | O_NOCTTY);
+    REQUIRE(fd >= 0);
+    std::string got;
+    const auto until = std::chrono::steady_clock::now() + std::chrono::seconds(30);
+    while (std::chrono::steady_clock::now() < until) {
+        pollfd p{fd, POLLIN, 0};
+        if (::poll(&p, 1, 2000) <= 0) break;
+        char buf[300];
+        const ssize_t n = ::read(fd, buf, sizeof buf);
+        if (n <= 0) break;  // EIO once the simulator has closed the pty
+        got.append(buf, static_cast<std::size_t>(n));
+        std::this_thread::sleep_for(std::chrono::milliseconds(100));
+    }
+    ::close(fd);
+    CHECK(wait_exit(pid) == 0);
+    INFO("got " << got.size() << " of " << expected.size() << " bytes");
+    CHECK(got == expected);
     fs::remove_all(dir);
 }

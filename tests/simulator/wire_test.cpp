@@ -2,13 +2,16 @@
 // check value, commands and fault specs.
 #include <catch2/catch.hpp>
 
+#include <algorithm>
 #include <climits>
+#include <cmath>
 #include <cstring>
 
 #include "commands.hpp"
 #include "crc16.hpp"
 #include "encoders.hpp"
 #include "faults.hpp"
+#include "links.hpp"
 
 using namespace tensile::sim;
 
@@ -153,4 +156,84 @@ TEST_CASE("faults change samples and bytes only inside their window") {
     CHECK(out.find("line\n") == std::string::npos);  // torn: the line end is gone
     CHECK(out.size() <= 10 + 2);
     CHECK(plan.faults()[3].bytes_injected == 2);
+}
+
+// wire-formats.md, "Channels on separate connections": a link carries only its
+// own channels, e.g. `184233100,1523.42 N` in `lines`, n = 1 in `binary`.
+TEST_CASE("a link with one channel writes only that channel") {
+    const Sample s = sample_of(184233100, 1523420, 123, 12345);
+    std::string out;
+    Encoder(Format::lines, "\n", channel_bit(ChannelId::force)).append(out, s);
+    CHECK(out == "184233100,1523.420 N\n");
+    out.clear();
+    Encoder(Format::keyvalue, "\n", channel_bit(ChannelId::extension) | channel_bit(ChannelId::crosshead)).append(out, s);
+    CHECK(out == "t=184233100 ext=0.0123 xh=1.2345\n");
+    out.clear();
+    Encoder(Format::binary, "\n", channel_bit(ChannelId::extension)).append(out, s);
+    REQUIRE(out.size() == 2 + 1 + 7 + 4 + 2);
+    CHECK(static_cast<unsigned char>(out[2]) == 11);  // L = 7 + 4·n with n = 1
+    CHECK(out[9] == 1);                                 // n
+    std::int32_t count = 0;
+    std::memcpy(&count, out.data() + 10, 4);            // little-endian on this host, as on the wire
+    CHECK(count == 123);
+}
+
+TEST_CASE("link specs parse, and bad ones say what was expected") {
+    const auto l = parse_link("force,crosshead@1000=tcp:127.0.0.1:7701");
+    REQUIRE(l);
+    CHECK(l->channels == (channel_bit(ChannelId::force) | channel_bit(ChannelId::crosshead)));
+    CHECK(l->rate_hz == 1000);
+    CHECK(l->target == LinkTarget::tcp);
+    CHECK(l->where == "127.0.0.1:7701");
+    CHECK(channel_names(l->channels) == "force,crosshead");
+    const auto p = parse_link("extension=pty");
+    REQUIRE(p);
+    CHECK(p->rate_hz == 0);  // the run's rate
+    CHECK(p->target == LinkTarget::pty);
+    CHECK(parse_link("force").error() == "--link 'force' has no '=TARGET'; expected CHANNELS[@RATE]=TARGET, e.g. "
+                                         "force@1000=tcp:127.0.0.1:7701, extension@500=pty or crosshead=file:xh.txt");
+    CHECK(parse_link("strain=pty").error() == "--link 'strain=pty': channel 'strain'; expected force, extension or crosshead");
+    CHECK(parse_link("force@fast=pty").error() == "--link 'force@fast=pty': rate 'fast' must be samples per second from 1 to 1000000");
+    CHECK(parse_link("force=serial").error() == "--link 'force=serial': target 'serial'; expected pty, tcp:HOST:PORT or file:PATH");
+    CHECK(parse_link("force,force=pty").error() == "--link 'force,force=pty': channel 'force' named twice");
+    CHECK(check_links({*parse_link("force=pty"), *parse_link("force,extension=pty")}).value_or("").find("already on another link") !=
+          std::string::npos);
+    CHECK(check_links({*parse_link("extension=pty")}).value_or("").find("no link carries force") != std::string::npos);
+    CHECK_FALSE(check_links({*parse_link("force=pty"), *parse_link("extension=pty")}));
+}
+
+TEST_CASE("link clocks: the first keeps time, the others start later and drift within a quartz's tolerance") {
+    CHECK(clock_for(3, 0).offset_s == 0);
+    CHECK(clock_for(3, 0).drift == 0);
+    CHECK(clock_for(3, 0).at(12.5) == 12.5);
+    for (std::uint64_t seed : {1u, 2u, 99u})
+        for (std::size_t k : {1u, 2u, 5u}) {
+            const DeviceClock c = clock_for(seed, k);
+            CHECK(c.offset_s >= 1);
+            CHECK(c.offset_s <= 60);
+            CHECK(std::abs(c.drift) <= 50e-6);  // ±50 ppm (common practice for plain crystals, from memory)
+            CHECK(c.at(100) == Approx(100 * (1 + c.drift) + c.offset_s));
+        }
+    CHECK(clock_for(3, 1).offset_s != clock_for(3, 2).offset_s);
+}
+
+// A torn record has lost its line end, so a reader sees each run of torn
+// records glued to the next whole record (wire-formats.md: a line ends at LF,
+// CR or CRLF). The truth counts runs, fragment bytes and the glued record's bytes.
+TEST_CASE("torn records: runs, fragments and the record each run runs into are counted") {
+    FaultPlan plan({*parse_fault("torn@0+0.003:1")}, 4, 1000);  // every record at 0, 1 and 2 ms
+    std::string wire;
+    std::size_t fragments = 0;
+    for (int k = 0; k < 5; ++k) {
+        const std::size_t start = wire.size();
+        wire += "1234,5.678 N\n";  // 13 bytes
+        plan.after_record(wire, start, k / 1000.0);
+        if (k < 3) fragments += wire.size() - start;
+    }
+    const Fault& f = plan.faults()[0];
+    CHECK(f.records_affected == 3);
+    CHECK(f.torn_runs == 1);
+    CHECK(f.fragment_bytes == fragments);
+    CHECK(f.glued_bytes == 13);  // only the first whole record after the run
+    CHECK(std::count(wire.begin(), wire.end(), '\n') == 2);
 }
