@@ -31,18 +31,6 @@ Reply method_not_allowed(const std::string& method, const std::string& path, con
     return r;
 }
 
-// Parses a command body: empty is an empty object; anything else must be a JSON object.
-Result<json> parse_body(const std::string& body) {
-    if (body.find_first_not_of(" \t\r\n") == std::string::npos) return json::object();
-    try {
-        auto j = json::parse(body);
-        if (!j.is_object()) return Error{"malformed JSON: expected an object {...}"};
-        return j;
-    } catch (const json::parse_error& e) {
-        return Error{std::string("malformed JSON: ") + e.what()};
-    }
-}
-
 }  // namespace
 
 Api::Api(ApiContext context) : c_(std::move(context)), started_s_(steady_now_s()) {}
@@ -122,7 +110,7 @@ void Api::runs(const ApiRequest& r, const std::function<void(Reply)>& done) {
 }
 
 Reply Api::command(const std::string& name, const std::string& body) {
-    auto j = parse_body(body);
+    auto j = parse_command_body(body);
     if (!j) return error_reply(400, j.error());
     Result<bool> done = Error{""};
     if (name == "arm") {

@@ -45,4 +45,16 @@ void split_target(const std::string& target, std::string& path, std::map<std::st
     }
 }
 
+Result<nlohmann::json> parse_command_body(const std::string& body) {
+    using nlohmann::json;
+    if (body.find_first_not_of(" \t\r\n") == std::string::npos) return json::object();
+    try {
+        auto j = json::parse(body);
+        if (!j.is_object()) return Error{"malformed JSON: expected an object {...}"};
+        return j;
+    } catch (const json::parse_error& e) {
+        return Error{std::string("malformed JSON: ") + e.what()};
+    }
+}
+
 }  // namespace tensile::monitor
