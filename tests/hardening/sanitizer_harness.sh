@@ -41,15 +41,30 @@ build)
     echo "build of $*: $(since "$t1") s (total $(since "$t0") s)"
     ;;
 unit)
+    # Two executables at a time (the machine has two cores); each one's
+    # output goes to TREE/unit-logs/EXE.log and is printed when it fails.
     tree=$1; shift
     t0=$(now)
+    logs="$tree/unit-logs"
+    mkdir -p "$logs"
+    run_one() {
+        local t1; t1=$(now)
+        if "$tree/bin/$1" >"$logs/$1.log" 2>&1; then
+            echo "$1: passed in $(since "$t1") s"
+        else
+            cat "$logs/$1.log"; echo "FAILED under ASan + UBSan: $1 (log: $logs/$1.log)"; return 1
+        fi
+    }
+    failed=0
+    pids=()
     for exe in "$@"; do
-        t1=$(now)
-        echo "=== $exe"
-        "$tree/bin/$exe" || { echo "FAILED under ASan + UBSan: $exe"; exit 1; }
-        echo "$exe: $(since "$t1") s"
+        run_one "$exe" &
+        pids+=($!)
+        if [ ${#pids[@]} -ge 2 ]; then wait "${pids[0]}" || failed=1; pids=("${pids[@]:1}"); fi
     done
+    for pid in "${pids[@]}"; do wait "$pid" || failed=1; done
     echo "all unit tests under ASan + UBSan: $(since "$t0") s"
+    exit $failed
     ;;
 fuzz)
     tree=$1 seeds=$2 seconds=$3; shift 3
