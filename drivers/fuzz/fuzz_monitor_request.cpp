@@ -33,7 +33,9 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
         if (ec == http::error::need_more) ec = {};
         if (ec || n == 0) break;
     }
-    if (!ec && !parser.is_done()) parser.put_eof(ec);
+    // Beast asserts that an end of stream follows some bytes; its own read
+    // loop only calls put_eof then (an empty input found this in the harness).
+    if (!ec && !parser.is_done() && parser.got_some()) parser.put_eof(ec);
     if (ec || !parser.is_header_done()) return 0;
 
     const auto& req = parser.get();

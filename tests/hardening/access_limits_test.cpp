@@ -161,6 +161,16 @@ TEST_CASE("oversized headers and bodies are refused or cut, and the daemon keeps
         c.send("GET /api/v1/runs?material=" + std::string(100 * 1024, 'm') + " HTTP/1.1\r\nHost: x\r\n\r\n");
         CHECK(refused_or_cut(c, 10));
     }
+    SECTION("a number too large for a double in a command body is a 400, not the end of the daemon") {
+        // Found by drivers/fuzz/fuzz_monitor_request: nlohmann's out_of_range
+        // (not a parse_error) escaped the body parser and ended tensiled.
+        for (const std::string body : {R"({"cause": 1e999})", R"({"specimen": {"width_mm": -1e400}})", "[1e309]"}) {
+            INFO(body);
+            const auto a = http(p, "POST", "/api/v1/arm", body, bearer);
+            CHECK(a.status == 400);
+            CHECK_THAT(json::parse(a.body)["error"].get<std::string>(), Catch::Contains("malformed JSON"));
+        }
+    }
     // Whatever was refused, the daemon is still there and nothing was armed.
     CHECK(state(p) == "idle");
     CHECK(d->stop() == 0);
