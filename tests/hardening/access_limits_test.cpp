@@ -177,7 +177,7 @@ TEST_CASE("oversized headers and bodies are refused or cut, and the daemon keeps
     std::filesystem::remove_all(dir);
 }
 
-TEST_CASE("requests dribbled byte by byte are cut after the server's 30 s limit; others are served meanwhile") {
+TEST_CASE("requests dribbled byte by byte are cut after the server's 30 s limit, and others are served meanwhile") {
     const auto dir = temp_dir("tensiled-hardening-loris");
     auto d = start_daemon(dir, 022);
     INFO(d->output());

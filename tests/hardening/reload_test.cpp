@@ -13,7 +13,7 @@
 using namespace tensile::testing;
 using nlohmann::json;
 
-TEST_CASE("a config reload (SIGHUP) during a run is refused with a log line; after it, it is taken") {
+TEST_CASE("a config reload (SIGHUP) during a run is refused with a log line and taken after the run") {
     const auto dir = temp_dir("tensiled-hardening-reload");
     const auto config = write_hardening_config(dir);
     Daemon d({"--config", config.string()}, dir / "out.log");
