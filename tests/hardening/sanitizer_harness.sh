@@ -91,7 +91,8 @@ selftest)
     size=$(wc -c <"$crash"); first=$(head -c1 "$crash")
     [ "$size" -gt 8 ] && [ "$first" = B ] || { echo "FAILED: the kept input ($size bytes) is not one that triggers the bug"; exit 1; }
     # Replaying the kept input alone fails again: it is a working reproducer.
-    if "$tree/bin/fuzz_planted_overflow" "$crash" >/dev/null 2>&1; then echo "FAILED: the kept input does not reproduce"; exit 1; fi
+    # (from inside the temp folder: a replay writes its crash file into the current one)
+    if (cd "$seeds" && "$tree/bin/fuzz_planted_overflow" "$crash") >/dev/null 2>&1; then echo "FAILED: the kept input does not reproduce"; exit 1; fi
     rm -f "$seeds.log"
     echo "the planted overflow was found and kept ($size bytes)"
     ;;
