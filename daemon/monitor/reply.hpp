@@ -10,6 +10,8 @@
 
 #include <nlohmann/json.hpp>
 
+#include "engine/result.hpp"
+
 namespace tensile::monitor {
 
 struct Reply {
@@ -39,5 +41,10 @@ struct ApiRequest {
 
 // Splits "/a/b?x=1&y=%20" into path and decoded query parameters.
 void split_target(const std::string& target, std::string& path, std::map<std::string, std::string>& query);
+
+// Parses a command body: empty (or blanks) is an empty object; anything else
+// must be a JSON object. Here rather than in api.cpp so it can be fuzzed
+// without sockets (drivers/fuzz/fuzz_monitor_body.cpp).
+Result<nlohmann::json> parse_command_body(const std::string& body);
 
 }  // namespace tensile::monitor

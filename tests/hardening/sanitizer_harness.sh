@@ -1,0 +1,103 @@
+#!/usr/bin/env bash
+# The sanitizer side of the hardening tests (registered in CMakeLists.txt
+# beside this file). Three steps, each one ctest:
+#
+#   build SRC TREE LAUNCHER TARGET...   configure TREE (e.g. build/sanitize) with
+#                                       ASan + UBSan and our fuzz driver, build TARGETs
+#   unit TREE EXE...                    run the Catch2 executables of TREE
+#   fuzz TREE SEEDS SECONDS TARGET...   run each fuzz target from SEEDS/<name> for SECONDS
+#   selftest TREE                       the driver must find fuzz_planted_overflow's bug
+#
+# Any sanitizer report is fatal (ASan halts; UBSan is built with
+# -fno-sanitize-recover and told to halt and print a stack), so a report
+# fails the step. The fuzz driver writes a crashing input into the target's
+# seed folder, where it stays a seed and fails every run until fixed.
+# Error policy: the first failing step or executable ends the script non-zero
+# after naming it; timings of each piece are printed for the results file.
+set -uo pipefail
+
+export ASAN_OPTIONS="halt_on_error=1:abort_on_error=1:detect_leaks=${TENSILED_DETECT_LEAKS:-1}:check_initialization_order=1:strict_init_order=1:detect_stack_use_after_return=1:print_summary=1"
+export UBSAN_OPTIONS="halt_on_error=1:print_stacktrace=1:print_summary=1"
+
+now() { date +%s%N; }
+since() { local ms=$(( ($(now) - $1) / 1000000 )); printf '%d.%d' $((ms / 1000)) $((ms % 1000 / 100)); }
+
+step=${1:-}; shift || true
+case "$step" in
+build)
+    src=$1 tree=$2 launcher=$3; shift 3
+    t0=$(now)
+    args=(-S "$src" -B "$tree" -DCMAKE_BUILD_TYPE=RelWithDebInfo -DTENSILED_SANITIZE=ON -DTENSILED_FUZZ_STANDALONE=ON
+          # -O1 -g1 instead of -O2 -g: much less to compile and assemble (full
+          # debug info of instrumented code is huge); line tables are all a
+          # sanitizer stack needs to name file and line.
+          "-DCMAKE_CXX_FLAGS_RELWITHDEBINFO=-O1 -g1")
+    [ -n "$launcher" ] && args+=("-DCMAKE_CXX_COMPILER_LAUNCHER=$launcher")
+    mkdir -p "$tree"
+    cmake "${args[@]}" >"$tree/configure.log" 2>&1 || { cat "$tree/configure.log"; echo "sanitizer tree: configure failed"; exit 1; }
+    echo "configure: $(since "$t0") s"
+    t1=$(now)
+    cmake --build "$tree" -j2 --target "$@" || { echo "sanitizer tree: build failed"; exit 1; }
+    echo "build of $*: $(since "$t1") s (total $(since "$t0") s)"
+    ;;
+unit)
+    # Two executables at a time (the machine has two cores); each one's
+    # output goes to TREE/unit-logs/EXE.log and is printed when it fails.
+    tree=$1; shift
+    t0=$(now)
+    logs="$tree/unit-logs"
+    mkdir -p "$logs"
+    run_one() {
+        local t1; t1=$(now)
+        if "$tree/bin/$1" >"$logs/$1.log" 2>&1; then
+            echo "$1: passed in $(since "$t1") s"
+        else
+            cat "$logs/$1.log"; echo "FAILED under ASan + UBSan: $1 (log: $logs/$1.log)"; return 1
+        fi
+    }
+    failed=0
+    pids=()
+    for exe in "$@"; do
+        run_one "$exe" &
+        pids+=($!)
+        if [ ${#pids[@]} -ge 2 ]; then wait "${pids[0]}" || failed=1; pids=("${pids[@]:1}"); fi
+    done
+    for pid in "${pids[@]}"; do wait "$pid" || failed=1; done
+    echo "all unit tests under ASan + UBSan: $(since "$t0") s"
+    exit $failed
+    ;;
+fuzz)
+    tree=$1 seeds=$2 seconds=$3; shift 3
+    t0=$(now)
+    for target in "$@"; do
+        name=${target#fuzz_}
+        "$tree/bin/$target" --seconds "$seconds" --seed 1 "$seeds/$name" || {
+            echo "FAILED: $target found a crash or sanitizer report; the input is in $seeds/$name (crash-*)"; exit 1; }
+    done
+    echo "all fuzz targets: $(since "$t0") s"
+    ;;
+selftest)
+    # The driver must find the planted overflow, fail, and keep the input.
+    tree=$1
+    seeds=$(mktemp -d)
+    trap 'rm -rf "$seeds"' EXIT
+    printf 'BBBBBBBB' >"$seeds/eight-b"
+    if "$tree/bin/fuzz_planted_overflow" --seconds 5 --seed 1 "$seeds" >"$seeds.log" 2>&1; then
+        cat "$seeds.log"; echo "FAILED: the planted heap overflow was not found"; exit 1
+    fi
+    grep -q "heap-buffer-overflow" "$seeds.log" || { cat "$seeds.log"; echo "FAILED: no ASan report for the planted bug"; exit 1; }
+    crash=$(ls "$seeds"/crash-* 2>/dev/null | head -1)
+    [ -n "$crash" ] || { cat "$seeds.log"; echo "FAILED: the crashing input was not written"; exit 1; }
+    size=$(wc -c <"$crash"); first=$(head -c1 "$crash")
+    [ "$size" -gt 8 ] && [ "$first" = B ] || { echo "FAILED: the kept input ($size bytes) is not one that triggers the bug"; exit 1; }
+    # Replaying the kept input alone fails again: it is a working reproducer.
+    # (from inside the temp folder: a replay writes its crash file into the current one)
+    if (cd "$seeds" && "$tree/bin/fuzz_planted_overflow" "$crash") >/dev/null 2>&1; then echo "FAILED: the kept input does not reproduce"; exit 1; fi
+    rm -f "$seeds.log"
+    echo "the planted overflow was found and kept ($size bytes)"
+    ;;
+*)
+    echo "usage: $0 build SRC TREE LAUNCHER TARGET... | unit TREE EXE... | fuzz TREE SEEDS SECONDS TARGET..." >&2
+    exit 2
+    ;;
+esac
