@@ -167,23 +167,28 @@ struct AnalyzerSink : FrameSink {
     void take(const Frame& f) override { analyzer.push(f, events); }
 };
 
-// Releases the file's pages behind the analysis as it goes. The reader runs
-// at most a few chunks ahead of the analyzer, so text more than a margin
-// behind the analyzer's estimated position is done with; a wrong estimate
-// only costs a page read again.
+// Releases the file's pages behind the analysis as it goes. Each frame is
+// one line of text (header and blank lines only make the count lag, the safe
+// side), so after every batch of frames the cursor moves on as many line
+// ends; the reader runs ahead of the analyzer, so text a margin behind the
+// cursor is done with. Released text read again only costs a page read.
 struct ReleasingSink : FrameSink {
+    static constexpr std::size_t batch = 65536;
+    static constexpr std::size_t margin = 4 * 1024 * 1024;
     FrameSink& inner;
     MappedFile& file;
-    double bytes_per_row;
     std::size_t taken = 0;
-    ReleasingSink(FrameSink& s, MappedFile& f, std::size_t rows)
-        : inner(s), file(f), bytes_per_row(static_cast<double>(f.text().size()) / static_cast<double>(std::max<std::size_t>(rows, 1))) {}
+    std::size_t cursor = 0;  // byte offset past the line of the batch's last frame, or before
+    ReleasingSink(FrameSink& s, MappedFile& f) : inner(s), file(f) {}
     void take(const Frame& f) override {
         inner.take(f);
-        if (++taken % 65536 != 0) return;
-        constexpr double margin = 16.0 * 1024 * 1024;
-        const double done = static_cast<double>(taken) * bytes_per_row - margin;
-        if (done > 0) file.release_before(static_cast<std::size_t>(done));
+        if (++taken % batch != 0) return;
+        const std::string_view text = file.text();
+        for (std::size_t lines = 0; lines < batch && cursor < text.size(); ++lines) {
+            const void* end = std::memchr(text.data() + cursor, '\n', text.size() - cursor);
+            cursor = end ? static_cast<std::size_t>(static_cast<const char*>(end) - text.data()) + 1 : text.size();
+        }
+        if (cursor > margin) file.release_before(cursor - margin);
     }
 };
 
@@ -201,7 +206,7 @@ int run(const AnalyzeOptions& o) {
     analyzer.reserve(rows);
     std::vector<Event> events;
     AnalyzerSink analysing(analyzer, events);
-    ReleasingSink sink(analysing, file, rows);
+    ReleasingSink sink(analysing, file);
     // Rows stream straight into the analyzer; on a bad row nothing is printed
     // but the message.
     auto table = scan_table_pipelined(file.text(), layout, sink);
