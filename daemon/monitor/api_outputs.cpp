@@ -92,17 +92,6 @@ Reply set_relay(RigService& rig, const drivers::OutputConfig& out, const json& j
 
 }  // namespace
 
-Result<json> parse_command_body(const std::string& body) {
-    if (body.find_first_not_of(" \t\r\n") == std::string::npos) return json::object();
-    try {
-        auto j = json::parse(body);
-        if (!j.is_object()) return Error{"malformed JSON: expected an object {...}"};
-        return j;
-    } catch (const json::parse_error& e) {
-        return Error{std::string("malformed JSON: ") + e.what()};
-    }
-}
-
 Reply tare(RigService& rig, const std::string& body) {
     auto j = parse_command_body(body);
     if (!j) return error_reply(400, j.error());

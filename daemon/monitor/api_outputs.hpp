@@ -35,8 +35,7 @@ namespace tensile::monitor {
 // The commands an operator may send on a command output.
 inline constexpr const char* output_commands[] = {"hold", "resume", "stop", "extensometer-off", "ping"};
 
-// A command body: empty is an empty object; anything else must be a JSON object.
-Result<nlohmann::json> parse_command_body(const std::string& body);
+// Command bodies are read by parse_command_body (reply.hpp).
 
 Reply tare(RigService& rig, const std::string& body);
 nlohmann::json outputs_json(const RigService& rig);
