@@ -5,8 +5,13 @@
 // `=`, an empty or repeated key, a bad value or bad stamp is rejected whole
 // (bad record, its bytes counted as resync bytes). Unknown keys are counted and
 // ignored so devices may add fields. A channel absent from a line simply has no
-// sample at that instant. Nothing throws after construction.
+// sample at that instant. Once a stream has stamped its records, a line
+// without the time key is bad (see text_line_parser.hpp: a torn fragment
+// glued before "t=" turns it into an unknown key), and so is one with an
+// unknown key ending in the time key whose value is the next stamp. Nothing throws after
+// construction.
 #include <array>
+#include <optional>
 #include <stdexcept>
 
 #include "text_line_parser.hpp"
@@ -54,6 +59,7 @@ private:
         // The current pair's value view grows to cover a following unit word.
         std::string_view* current = nullptr;
         std::string_view unknown_value;
+        std::optional<std::uint64_t> glued_stamp;  // see below
         std::size_t i = 0;
         const std::size_t n = line.size();
         while (i < n) {
@@ -90,6 +96,9 @@ private:
             while (c < config_.channels.size() && config_.channels[c].key != key) ++c;
             if (c == config_.channels.size()) {
                 ++unknown;
+                if (ends_with_stamp_key(key)) {
+                    if (const auto v = read_unsigned(val)) glued_stamp = *v;
+                }
                 unknown_value = val;
                 current = &unknown_value;  // an unknown pair may carry a suffix too
                 continue;
@@ -100,30 +109,40 @@ private:
             current = &values[c];
         }
 
-        Stamp kind = Stamp::none;
-        std::uint64_t stamp = 0;
+        Record& r = record_;  // a member: no per-line construction of 64 slots
+        r.kind = Stamp::none;
+        r.stamp = 0;
+        r.bytes = line.size();
         if (have_stamp) {
             const auto v = read_unsigned(stamp_text);
             if (!v) return discard(line.size(), true);
-            kind = stamp_is_counter ? Stamp::counter : Stamp::device_us;
-            stamp = *v;
+            r.kind = stamp_is_counter ? Stamp::counter : Stamp::device_us;
+            r.stamp = *v;
+            // "t=12759999 Ft=12761000 F=...": a torn record cut right after a key
+            // ("t=12759999 F") glued to the next; the unknown key ends with the
+            // stamp key and holds the next stamp. A device's own extra field
+            // ("count=5") does not carry on from the record's stamp.
+            if (glued_stamp && next_stamp_of(r.stamp, *glued_stamp)) return discard(line.size(), true);
         }
-        auto& readings = readings_;
         bool any = false;
         for (std::size_t c = 0; c < config_.channels.size(); ++c) {
+            r.present[c] = seen[c];
             if (!seen[c]) continue;
-            readings[c] = read_value(values[c], config_.channels[c].unit);
-            if (readings[c].kind == ReadingKind::bad) return discard(line.size(), true);
+            r.readings[c] = read_value(values[c], config_.channels[c].unit);
+            if (r.readings[c].kind == ReadingKind::bad) return discard(line.size(), true);
             any = true;
         }
-        counters_.stream.unknown_keys += unknown;
         if (!any && !have_stamp && unknown == 0) return discard(line.size(), true);
-        for (std::size_t c = 0; c < config_.channels.size(); ++c)
-            if (seen[c]) emit(c, readings[c], kind, stamp, out);
-        end_record();
+        counters_.stream.unknown_keys += unknown;
+        accept(r, out);
     }
 
-    std::array<Reading, max_channels> readings_;
+    [[nodiscard]] bool ends_with_stamp_key(std::string_view key) const {
+        auto ends = [&](const std::string& k) { return !k.empty() && key.size() > k.size() && key.ends_with(k); };
+        return ends(config_.time_key) || ends(config_.counter_key);
+    }
+
+    Record record_;
 };
 
 }  // namespace

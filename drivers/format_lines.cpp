@@ -48,6 +48,7 @@ public:
                                                : static_cast<std::size_t>(highest + 1);
         if (field_count_ <= static_cast<std::size_t>(highest) || field_count_ > max_fields)
             throw std::invalid_argument("lines format: field_count must cover every configured field (at most 64)");
+        for (std::size_t c = 0; c < config_.channels.size(); ++c) record_.present[c] = true;  // every record has every channel
     }
 
 private:
@@ -94,27 +95,27 @@ private:
         auto& f = fields_;
         if (split(line, f) != field_count_) return discard(line.size(), true);
 
-        Stamp kind = Stamp::none;
-        std::uint64_t stamp = 0;
+        Record& r = record_;  // a member: no per-line construction of 64 slots
+        r.kind = Stamp::none;
+        r.stamp = 0;
+        r.bytes = line.size();
         if (config_.time_field || config_.counter_field) {
             const auto v = read_unsigned(f[static_cast<std::size_t>(config_.time_field ? *config_.time_field : *config_.counter_field)]);
             if (!v) return discard(line.size(), true);
-            kind = config_.time_field ? Stamp::device_us : Stamp::counter;
-            stamp = *v;
+            r.kind = config_.time_field ? Stamp::device_us : Stamp::counter;
+            r.stamp = *v;
         }
-        auto& readings = readings_;  // members: no per-line construction of 64 slots
         const std::size_t nch = config_.channels.size();
         for (std::size_t c = 0; c < nch; ++c) {
-            readings[c] = read_value(f[static_cast<std::size_t>(config_.channels[c].field)], config_.channels[c].unit);
-            if (readings[c].kind == ReadingKind::bad) return discard(line.size(), true);
+            r.readings[c] = read_value(f[static_cast<std::size_t>(config_.channels[c].field)], config_.channels[c].unit);
+            if (r.readings[c].kind == ReadingKind::bad) return discard(line.size(), true);
         }
-        for (std::size_t c = 0; c < nch; ++c) emit(c, readings[c], kind, stamp, out);
-        end_record();
+        accept(r, out);
     }
 
     std::size_t field_count_ = 0;
     std::array<std::string_view, max_fields> fields_;
-    std::array<Reading, max_fields> readings_;
+    Record record_;
 };
 
 }  // namespace

@@ -69,22 +69,34 @@ TEST_CASE("keyvalue: corrupted lines resync with exact counters", "[keyvalue][co
                                "t=4 F=1,N\n" +                 // unit after a comma, 9
                                "t=4 F=1 parsec\n" +            // unknown unit, 14
                                good +                          // resynced
-                               "F=1 x=2 y=3\n" +               // two unknown keys, force only
-                               "q=1\n" +                       // only unknown keys: counted, not bad
+                               "F=1 x=2 y=3\n" +               // no stamp in a stamped stream: bad, 11
+                               "q=1\n" +                       // the same, 3
                                "t=6 ext=7 F=1\r\n" + std::string(700, 'k') + "\n" + good;
     const Run r = run_whole(kv_channels(), stream);
     const auto& s = r.counters.stream;
-    CHECK(s.bad_records == 7);
+    CHECK(s.bad_records == 9);
     CHECK(s.long_lines == 1);
-    CHECK(s.resync_bytes == 10 + 5 + 7 + 11 + 11 + 9 + 14 + 700);
-    CHECK(s.unknown_keys == 3);
-    CHECK(s.records == 5);
-    REQUIRE(r.samples.size() == 3 + 1 + 2 + 3);
+    CHECK(s.resync_bytes == 10 + 5 + 7 + 11 + 11 + 9 + 14 + 11 + 3 + 700);
+    CHECK(s.unknown_keys == 3);  // seen on the wire, though their lines were refused
+    CHECK(s.records == 3);
+    REQUIRE(r.samples.size() == 3 + 2 + 3);
     CHECK(r.samples[0].flags == flag::resynced);
-    CHECK(r.samples[3].flags == 0);
-    CHECK(r.samples[3].stamp_kind == Stamp::none);
-    CHECK(r.samples[6].flags == flag::resynced);
+    CHECK(r.samples[3].flags == flag::resynced);  // after the unstamped lines
+    CHECK(r.samples[3].stamp == 6u);
+    CHECK(r.samples[5].flags == flag::resynced);  // after the long line
     check_split_invariance(kv_channels(), stream);
+}
+
+TEST_CASE("keyvalue: a stream that never stamps takes every record unstamped", "[keyvalue]") {
+    const std::string stream = "F=1 x=2 y=3\nq=1\next=7 F=2\n";
+    const Run r = run_whole(kv_channels(), stream);
+    const auto& s = r.counters.stream;
+    CHECK(s.bad_records == 0);
+    CHECK(s.unknown_keys == 3);
+    CHECK(s.records == 3);  // "q=1": only unknown keys, counted, not bad
+    REQUIRE(r.samples.size() == 1 + 2);
+    CHECK(r.samples[0].stamp_kind == Stamp::none);
+    CHECK(r.samples[0].flags == 0);
 }
 
 TEST_CASE("keyvalue: counter key stamps samples as a counter", "[keyvalue]") {
