@@ -36,7 +36,9 @@ bool quantise(Kind kind, int k, double v, std::uint64_t& q) {
     if (!std::isfinite(v)) return false;
     const double scaled = v * pow10[k];
     if (!(std::fabs(scaled) < 4.0e15)) return false;  // keep q exact in a double
-    const auto qi = static_cast<std::int64_t>(std::llround(scaled));
+    // Rounded half away from zero without a library call (this runs for every
+    // value); whichever integer it gives is checked by rebuilding below.
+    const auto qi = static_cast<std::int64_t>(scaled + std::copysign(0.5, scaled));
     if (bits_of(rebuild(kind, k, qi)) != bits_of(v)) return false;
     q = static_cast<std::uint64_t>(qi);
     return true;
@@ -76,8 +78,9 @@ std::uint64_t predict(int order, std::uint64_t p1, std::uint64_t p2) {
     return order == 0 ? 0 : order == 1 ? p1 : p1 + (p1 - p2);
 }
 
-// Cost of every order for one kind; updates `best` when cheaper.
-void consider(Kind kind, int k, std::span<const double> col, Plan& best) {
+// Cost of every order for one kind; updates `best` when cheaper. True when
+// every value fitted the kind (no exceptions).
+bool consider(Kind kind, int k, std::span<const double> col, Plan& best) {
     std::array<std::size_t, 3> cost{};
     std::array<std::uint64_t, 3> p1{}, p2{};
     bool first = true;
@@ -109,15 +112,24 @@ void consider(Kind kind, int k, std::span<const double> col, Plan& best) {
         const std::size_t total = 2 + mask_cost + cost[o] + exc_cost;
         if (total < best.cost) best = Plan{kind, k, o, total};
     }
+    return !have_exc;
 }
 
 void encode_column(std::span<const double> col, std::string& out) {
+    // A grid that fits every value is as cheap as any other that does, and far
+    // cheaper than differencing raw bits, so the first one found ends the
+    // search: costing all three kinds made the encoder the recorder's
+    // bottleneck on a flat-out ingest.
     Plan best;
-    consider(raw_bits, 0, col, best);
+    bool all_fit = false;
     for (Kind kind : {decimal_div, grid_mul}) {
         const int k = pick_k(kind, col);
-        if (k >= 0) consider(kind, k, col, best);
+        if (k >= 0 && consider(kind, k, col, best)) {
+            all_fit = true;
+            break;
+        }
     }
+    if (!all_fit) consider(raw_bits, 0, col, best);
     out.push_back(static_cast<char>(best.kind | (best.order << 4)));
     out.push_back(static_cast<char>(best.k));
 

@@ -8,6 +8,7 @@
 // Errors (OpenSSL or SQLite) are values.
 #include <bit>
 #include <memory>
+#include <vector>
 #include <openssl/evp.h>
 
 #include "store.hpp"
@@ -20,8 +21,16 @@ public:
     Sha256() : ctx_(EVP_MD_CTX_new(), &EVP_MD_CTX_free) {
         ok_ = ctx_ && EVP_DigestInit_ex(ctx_.get(), EVP_sha256(), nullptr) == 1;
     }
+    // Small pieces (the 8-byte integers) are gathered first: one OpenSSL call
+    // per frame value made hashing a long run take seconds.
     void add(const void* data, std::size_t n) {
-        if (ok_ && n) ok_ = EVP_DigestUpdate(ctx_.get(), data, n) == 1;
+        if (pending_.size() + n > batch) flush();
+        if (n >= batch) {
+            update(data, n);
+            return;
+        }
+        const auto* p = static_cast<const char*>(data);
+        pending_.insert(pending_.end(), p, p + n);
     }
     void add_u64(std::uint64_t v) {
         unsigned char b[8];
@@ -30,6 +39,7 @@ public:
     }
     void add_sized(std::string_view s) { add_u64(s.size()); add(s.data(), s.size()); }
     Result<std::string> hex() {
+        flush();
         unsigned char md[EVP_MAX_MD_SIZE];
         unsigned int len = 0;
         if (!ok_ || EVP_DigestFinal_ex(ctx_.get(), md, &len) != 1) return Error{"SHA-256 failed in OpenSSL"};
@@ -40,7 +50,17 @@ public:
     }
 
 private:
+    static constexpr std::size_t batch = 64 * 1024;
+    void update(const void* data, std::size_t n) {
+        if (ok_ && n) ok_ = EVP_DigestUpdate(ctx_.get(), data, n) == 1;
+    }
+    void flush() {
+        update(pending_.data(), pending_.size());
+        pending_.clear();
+    }
+
     std::unique_ptr<EVP_MD_CTX, decltype(&EVP_MD_CTX_free)> ctx_;
+    std::vector<char> pending_;
     bool ok_ = false;
 };
 
