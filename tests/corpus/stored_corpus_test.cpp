@@ -1,7 +1,9 @@
 // Every corpus case stored as a run in a fresh database, the way the recorder
 // leaves one (frames, events, results, SHA-256 at the close): `verify` must
 // find it identical, a changed result must be a mismatch on its row, and
-// `report` must give a self-contained HTML record with a drawn curve.
+// `report` must give a self-contained HTML record with a drawn curve, and a
+// PDF record whose curve page, rendered by poppler, shows the trace inside
+// the plot and whose text holds Rm and the safety note.
 // The raw bytes are not stored here (no arrival times of a live link), so
 // these runs are verified from their frames, as imported runs are.
 #include <catch2/catch.hpp>
@@ -16,10 +18,12 @@
 #include "corpus_case.hpp"
 #include "daemon/offline/results_json.hpp"
 #include "daemon/offline/specimen_json.hpp"
+#include "daemon/report/pdf_report.hpp"
 #include "daemon/report/run_report.hpp"
 #include "daemon/storage/frame_codec.hpp"
 #include "daemon/storage/store.hpp"
 #include "daemon/verify/run_verifier.hpp"
+#include "pdf_look.hpp"
 
 using namespace tensile;
 using namespace tensile::corpus;
@@ -96,6 +100,39 @@ TEST_CASE("corpus: every case stored as a run verifies identical and gets a repo
             const auto pts = html->find("points=\"", at);
             const auto end = html->find('"', pts + 8);
             CHECK(std::count(html->begin() + static_cast<long>(pts), html->begin() + static_cast<long>(end), ',') > 500);
+
+            auto pdf = report::pdf_report(*store, id, {});
+            REQUIRE(pdf);
+            CHECK(pdf->bytes.starts_with("%PDF-"));
+            REQUIRE(pdf->curve_page >= 2);  // the curve opens a page of its own after the results
+            CHECK(pdf->curve_page <= pdf->pages);
+            const fs::path file = dir / (c.name + ".pdf");
+            std::ofstream(file, std::ios::binary) << pdf->bytes;
+            const auto look = testing::look_at_plot(file, pdf->curve_page, pdf->plot);
+            INFO(look.why);
+            REQUIRE(look.rendered);
+            INFO("plot " << look.plot_w_px << " px wide, " << look.nonwhite << " non-white, " << look.ink << " inked, trace in "
+                         << look.trace_columns << " columns; control " << look.control_nonwhite << " of "
+                         << look.control_pixels << " non-white");
+            // The trace runs across most of the plot (the axis ends at the
+            // next round strain after fracture) and inks a fair share of it.
+            CHECK(look.trace_columns > look.plot_w_px / 2);
+            CHECK(look.nonwhite > 2 * look.plot_w_px);
+            // Darker than the grid: with the trace 517–721 pixels over the
+            // corpus, with it left out (tried once) 183–330.
+            CHECK(look.ink > 3 * look.plot_w_px / 2);
+            // The control: the right margin beside the plot is white, so
+            // the counts above can tell ink from an empty page.
+            CHECK(look.control_pixels > 1000);
+            CHECK(look.control_nonwhite == 0);
+            const std::string text = testing::pdf_text(file);
+            char rm[32];
+            std::snprintf(rm, sizeof rm, "%.6g", run.results.Rm_MPa.value());  // as the results table prints it
+            CHECK_THAT(text, Catch::Contains(std::string("Rm ") + rm + " MPa"));
+            CHECK_THAT(text, Catch::Contains("This software is no interlock: it never replaces the frame's own limits, "
+                                             "guards and emergency stop"));
+            CHECK_THAT(text, Catch::Contains("stores elastic energy that is released at fracture") &&
+                                 Catch::Contains("accredited procedures") && Catch::Contains("local codes"));
         }
     }
     // A stored result moved after the fact: verify names its row.
