@@ -19,6 +19,7 @@
 #include "daemon/offline/results_json.hpp"
 #include "daemon/offline/specimen_json.hpp"
 #include "daemon/report/pdf_report.hpp"
+#include "daemon/report/report_data.hpp"
 #include "daemon/report/run_report.hpp"
 #include "daemon/storage/frame_codec.hpp"
 #include "daemon/storage/store.hpp"
@@ -134,6 +135,33 @@ TEST_CASE("corpus: every case stored as a run verifies identical and gets a repo
             CHECK_THAT(text, Catch::Contains("stores elastic energy that is released at fracture") &&
                                  Catch::Contains("accredited procedures") && Catch::Contains("local codes"));
         }
+    }
+    // A long events table flows onto further pages, its header repeated on
+    // each. The run's own events plus 160 rate events like those of a speed
+    // control hunting about a band's edge (made-up times, structure only).
+    {
+        auto data = report::gather_report_data(*store, 1);
+        REQUIRE(data);
+        const auto short_pdf = report::pdf_record(*data, 1, {});
+        REQUIRE(short_pdf);
+        for (int k = 0; k < 160; ++k)
+            data->run.events.push_back({k % 2 ? EventKind::rate_in_range : EventKind::rate_out_of_range, 10.0 + k,
+                                        0, 0, 0, 0.0025, "swing " + std::to_string(k + 1)});
+        const auto long_pdf = report::pdf_record(*data, 1, {});
+        REQUIRE(long_pdf);
+        CHECK(long_pdf->curve_page == short_pdf->curve_page);  // the curve stays where it was
+        CHECK(long_pdf->pages >= short_pdf->pages + 3);        // 160 rows at about 50 a page
+        const fs::path file = dir / "long.pdf";
+        std::ofstream(file, std::ios::binary) << long_pdf->bytes;
+        const std::string text = testing::pdf_text(file);
+        std::size_t headers = 0;
+        for (auto at = text.find("time, s event stress, MPa"); at != std::string::npos; at = text.find("time, s event stress, MPa", at + 1))
+            ++headers;
+        CHECK(headers >= 4);
+        CHECK_THAT(text, Catch::Contains("swing 1 ") && Catch::Contains("swing 160 "));
+        // Nothing after the events is lost: the rate table and the verification follow.
+        CHECK(text.find("swing 160 ") < text.find("Strain rate per phase"));
+        CHECK(text.find("Strain rate per phase") < text.find("Verification"));
     }
     // A stored result moved after the fact: verify names its row.
     REQUIRE(store->db().exec("UPDATE runs SET results = json_set(results, '$.Rm_MPa', json_extract(results, '$.Rm_MPa') + 2) WHERE id = 1"));
