@@ -9,7 +9,8 @@ namespace tensile::report {
 
 namespace {
 
-void text_at(cairo_t* cr, const std::string& t, double x, double y, double anchor) {
+void text_at(cairo_t* cr, const std::string& text, double x, double y, double anchor) {
+    const std::string t = valid_utf8(text);
     cairo_text_extents_t e;
     cairo_text_extents(cr, t.c_str(), &e);
     cairo_move_to(cr, x - anchor * e.x_advance, y);
@@ -99,8 +100,9 @@ void draw_curve(cairo_t* cr, const std::vector<CurvePoint>& curve, const std::ve
         // would print over each other: try places above and below the point
         // until the label is clear of those placed, left of points near the
         // right edge.
+        const std::string label = valid_utf8(m.label);
         cairo_text_extents_t e;
-        cairo_text_extents(cr, m.label.c_str(), &e);
+        cairo_text_extents(cr, label.c_str(), &e);
         const bool flip = x > p.x + 0.8 * p.w;
         const double lx = flip ? x - 4 - e.x_advance : x + 4;
         PageBox r{lx, y - 5 - 7.5, e.x_advance, 8};
@@ -111,7 +113,7 @@ void draw_curve(cairo_t* cr, const std::vector<CurvePoint>& curve, const std::ve
         taken.push_back(r);
         cairo_set_source_rgb(cr, 0.48, 0.18, 0.07);
         cairo_move_to(cr, r.x, r.y + 7.5);
-        cairo_show_text(cr, m.label.c_str());
+        cairo_show_text(cr, label.c_str());
     }
     cairo_restore(cr);
 }

@@ -25,9 +25,39 @@ constexpr double cell_pad = 4;
 
 }  // namespace
 
+std::string valid_utf8(std::string_view text) {
+    std::string out;
+    out.reserve(text.size());
+    for (std::size_t i = 0; i < text.size();) {
+        const auto c = static_cast<unsigned char>(text[i]);
+        std::size_t n = c < 0x80 ? 1 : (c >> 5) == 0x6 ? 2 : (c >> 4) == 0xE ? 3 : (c >> 3) == 0x1E ? 4 : 0;
+        bool ok = n > 0 && i + n <= text.size() && !(n == 2 && c < 0xC2) && !(n == 4 && c > 0xF4);
+        for (std::size_t k = 1; ok && k < n; ++k) ok = (static_cast<unsigned char>(text[i + k]) & 0xC0) == 0x80;
+        if (ok && n == 3) {  // no overlong forms, no UTF-16 surrogates
+            const auto c1 = static_cast<unsigned char>(text[i + 1]);
+            ok = !(c == 0xE0 && c1 < 0xA0) && !(c == 0xED && c1 >= 0xA0);
+        }
+        if (ok && n == 4) {
+            const auto c1 = static_cast<unsigned char>(text[i + 1]);
+            ok = !(c == 0xF0 && c1 < 0x90) && !(c == 0xF4 && c1 >= 0x90);
+        }
+        if (ok && n == 1 && c < 0x20) {  // control characters have no glyph; line breaks and tabs become spaces
+            out += c == '\n' || c == '\r' || c == '\t' ? ' ' : '?';
+            ++i;
+        } else if (ok) {
+            out.append(text.substr(i, n));
+            i += n;
+        } else {
+            out += '?';
+            ++i;
+        }
+    }
+    return out;
+}
+
 PdfPages::PdfPages(const std::string& title, std::string footer_text) : footer_(std::move(footer_text)) {
     surface_ = cairo_pdf_surface_create_for_stream(append, &bytes_, page_w, page_h);
-    cairo_pdf_surface_set_metadata(surface_, CAIRO_PDF_METADATA_TITLE, title.c_str());
+    cairo_pdf_surface_set_metadata(surface_, CAIRO_PDF_METADATA_TITLE, valid_utf8(title).c_str());
     cairo_pdf_surface_set_metadata(surface_, CAIRO_PDF_METADATA_CREATOR, "tensilectl " TENSILED_VERSION);
     cr_ = cairo_create(surface_);
     footer();
@@ -48,7 +78,7 @@ void PdfPages::font(Tone tone, double size) {
 
 double PdfPages::advance(const std::string& text) {
     cairo_text_extents_t e;
-    cairo_text_extents(cr_, text.c_str(), &e);
+    cairo_text_extents(cr_, valid_utf8(text).c_str(), &e);
     return e.x_advance;
 }
 
@@ -56,7 +86,7 @@ void PdfPages::footer() {
     font(Tone::plain, 7);
     cairo_set_source_rgb(cr_, 0.4, 0.4, 0.4);
     cairo_move_to(cr_, margin_x, page_h - 30);
-    cairo_show_text(cr_, (footer_ + " · page " + std::to_string(page_)).c_str());
+    cairo_show_text(cr_, valid_utf8(footer_ + " · page " + std::to_string(page_)).c_str());
 }
 
 void PdfPages::new_page() {
@@ -77,7 +107,7 @@ std::vector<PdfPages::Line> PdfPages::lay_out(const Spans& spans, double size, d
     Line group;
     for (const auto& s : spans) {
         std::string w;
-        for (char c : s.text) {
+        for (char c : valid_utf8(s.text)) {
             if (c != ' ' && c != '\n') {
                 w += c;
                 continue;
@@ -278,12 +308,14 @@ void PdfPages::table(const Table& t, double size) {
 }
 
 Result<std::string> PdfPages::finish() {
+    const cairo_status_t drawing = cairo_status(cr_);
     cairo_destroy(cr_);
     cr_ = nullptr;
     cairo_surface_finish(surface_);
     const cairo_status_t status = cairo_surface_status(surface_);
     cairo_surface_destroy(surface_);
     surface_ = nullptr;
+    if (drawing != CAIRO_STATUS_SUCCESS) return Error{std::string("cairo could not draw the PDF: ") + cairo_status_to_string(drawing)};
     if (status != CAIRO_STATUS_SUCCESS) return Error{std::string("cairo could not make the PDF: ") + cairo_status_to_string(status)};
     return std::move(bytes_);
 }

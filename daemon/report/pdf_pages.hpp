@@ -8,13 +8,15 @@
 // Fonts come from fontconfig through cairo's simple font API (DejaVu Sans on
 // Debian: fonts-dejavu-core), which covers the symbols we print (±, ², –, ≥).
 //
-// Error policy: cairo records the first failure in the surface; finish()
-// reports it as an Error naming cairo's message. Nothing here throws.
+// Error policy: text is made valid UTF-8 before cairo sees it; cairo records
+// any other first failure in the context or surface, and finish() reports it
+// as an Error naming cairo's message. Nothing here throws.
 #pragma once
 
 #include <cairo.h>
 
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "daemon/report/report_content.hpp"
@@ -85,5 +87,10 @@ private:
 };
 
 inline double line_height(double size) { return size * 1.35; }
+
+// `text` with each byte that is not part of valid UTF-8 replaced by '?':
+// cairo stops drawing the whole document at the first invalid string, and a
+// label or material text from a rig may hold anything.
+std::string valid_utf8(std::string_view text);
 
 }  // namespace tensile::report
