@@ -11,12 +11,15 @@
 // complete, so a failure never leaves a half-written record under its name.
 #include "report_commands.hpp"
 
+#include <fcntl.h>
 #include <unistd.h>
 
 #include <algorithm>
 #include <cctype>
+#include <cerrno>
 #include <chrono>
 #include <cstdio>
+#include <cstring>
 #include <ctime>
 #include <filesystem>
 #include <fstream>
@@ -72,22 +75,35 @@ std::string format_of(const ReportArgs& a) {
     return "";
 }
 
-// Writes beside the target and renames: readers see the old file or the
-// whole new one. Returns what went wrong, or an empty string.
+// Writes beside the target, syncs, and renames: readers (and a machine that
+// loses power) see the old file or the whole new one, never a part. Returns
+// what went wrong, or an empty string.
 std::string write_in_place(const std::string& path, const std::string& bytes) {
     const std::filesystem::path target(path);
+    // Renaming over a device, a pipe or a folder would replace it: only a
+    // new or a regular file is ours to put a record in.
+    std::error_code st;
+    const auto status = std::filesystem::symlink_status(target, st);
+    if (!st && std::filesystem::exists(status) && !std::filesystem::is_regular_file(status))
+        return "exists and is not a regular file; expected a new file name or a file to replace";
     const std::filesystem::path temp =
         target.parent_path() / ("." + target.filename().string() + ".part-" + std::to_string(::getpid()));
-    {
-        std::ofstream f(temp, std::ios::binary | std::ios::trunc);
-        if (!f) return "cannot create '" + temp.string() + "' (does the folder exist and may we write there?)";
-        f.write(bytes.data(), static_cast<std::streamsize>(bytes.size()));
-        f.flush();
-        if (!f) {
-            f.close();
-            std::filesystem::remove(temp);
-            return "cannot write '" + temp.string() + "' (disk full?)";
-        }
+    const int fd = ::open(temp.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+    if (fd < 0)
+        return "cannot create '" + temp.string() + "': " + std::strerror(errno) + " (expected a folder we may write in)";
+    std::size_t done = 0;
+    int failed = 0;
+    while (done < bytes.size() && !failed) {
+        const ssize_t n = ::write(fd, bytes.data() + done, bytes.size() - done);
+        if (n < 0 && errno == EINTR) continue;
+        if (n <= 0) failed = n < 0 ? errno : ENOSPC;
+        else done += static_cast<std::size_t>(n);
+    }
+    if (!failed && ::fsync(fd) != 0) failed = errno;
+    ::close(fd);
+    if (failed) {
+        std::filesystem::remove(temp);
+        return "cannot write '" + temp.string() + "': " + std::strerror(failed);
     }
     std::error_code ec;
     std::filesystem::rename(temp, target, ec);

@@ -14,6 +14,7 @@
 #include <fcntl.h>
 #include <poll.h>
 #include <sys/socket.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <chrono>
@@ -216,6 +217,18 @@ TEST_CASE("tools: report and summary refuse bad input with one message and exit 
     r = run_command(base + " report 1 --db " + db().string() + " -o " + (recorded() / "no-such-folder" / "x.pdf").string());
     CHECK(r.code == 2);
     CHECK_THAT(r.out, Catch::Contains("no-such-folder") && Catch::Contains("cannot create"));
+    // Never renamed over something that is not a regular file (a pipe of
+    // our own here, so a regression cannot replace a device of the machine).
+    const fs::path pipe = recorded() / "pipe.pdf";
+    REQUIRE(::mkfifo(pipe.c_str(), 0600) == 0);
+    r = run_command(base + " report 1 --db " + db().string() + " -o " + pipe.string());
+    CHECK(r.code == 2);
+    CHECK_THAT(r.out, Catch::Contains("not a regular file"));
+    CHECK(fs::is_fifo(pipe));
+    fs::remove(pipe);
+    r = run_command(base + " report 1 --db " + db().string() + " -o " + recorded().string() + " --format html");
+    CHECK(r.code == 2);
+    CHECK(fs::is_directory(recorded()));
     for (const auto& e : fs::directory_iterator(recorded())) CHECK_THAT(e.path().filename().string(), !Catch::Contains(".part-"));
     r = run_command(base + " report 1 --db " + (recorded() / "none.db").string() + " -o x.html");
     CHECK(r.code == 2);
