@@ -2,7 +2,8 @@
 // self-contained HTML file (inline CSS, inline SVG curve, no external assets):
 // specimen, profile, rig, results with expanded uncertainty, events,
 // strain-rate compliance per phase, the curve with events marked, the
-// verification status, and the safety and responsibility note.
+// verification status, and the safety and responsibility note. The words
+// and numbers come from report_content.hpp, shared with the PDF record.
 //
 // The curve is drawn from the stored frames run through today's analyzer
 // (with the hand-over applied where the run had it), i.e. the same strain the
@@ -17,14 +18,9 @@
 #include <string>
 
 #include "daemon/storage/store.hpp"
-#include "uncertainty.hpp"
+#include "report_content.hpp"
 
 namespace tensile::report {
-
-struct ReportOptions {
-    UncertaintyInputs budget;
-    double generated_unix_s = 0;  // shown in the footer; 0: left out (tests want stable output)
-};
 
 Result<std::string> html_report(storage::Store& store, std::int64_t run, const ReportOptions& options);
 

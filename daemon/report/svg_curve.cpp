@@ -1,6 +1,8 @@
 // Inline SVG stress–strain curve; see svg_curve.hpp.
 #include "svg_curve.hpp"
 
+#include "curve_axes.hpp"
+
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -13,24 +15,9 @@ namespace {
 constexpr double width = 760, height = 460;
 constexpr double left = 70, right = 20, top = 20, bottom = 50;
 
-// A tick step of 1, 2 or 5 × 10^k giving about `ticks` intervals.
-double nice_step(double span, int ticks) {
-    const double raw = span / ticks;
-    const double p = std::pow(10.0, std::floor(std::log10(raw)));
-    for (double m : {1.0, 2.0, 5.0, 10.0})
-        if (m * p >= raw) return m * p;
-    return 10 * p;
-}
-
 std::string fmt(double v) {
     char b[32];
     std::snprintf(b, sizeof b, "%.1f", v);
-    return b;
-}
-
-std::string tick_label(double v) {
-    char b[32];
-    std::snprintf(b, sizeof b, "%g", std::abs(v) < 1e-9 ? 0.0 : v);
     return b;
 }
 
@@ -53,34 +40,17 @@ std::string escape_xml(const std::string& text) {
 }
 
 std::string svg_curve(const std::vector<CurvePoint>& curve, const std::vector<CurveMark>& marks, std::size_t max_points) {
-    std::vector<CurvePoint> pts;
-    for (const auto& p : curve)
-        if (std::isfinite(p.strain_pct) && std::isfinite(p.stress_MPa)) pts.push_back(p);
+    const CurveAxes axes = plan_curve(curve, max_points);
     std::ostringstream s;
     s << "<svg xmlns=\"http://www.w3.org/2000/svg\" class=\"curve\" viewBox=\"0 0 " << width << ' ' << height
       << "\" width=\"" << width << "\" height=\"" << height << "\" role=\"img\" aria-label=\"stress-strain curve\">\n";
-    if (pts.empty()) {
+    if (axes.points.empty()) {
         s << "<text x=\"" << width / 2 << "\" y=\"" << height / 2
           << "\" text-anchor=\"middle\">no frames stored for this run</text>\n</svg>\n";
         return s.str();
     }
-    double x_max = 0, y_max = 0, x_min = 0, y_min = 0;
-    for (const auto& p : pts) {
-        x_max = std::max(x_max, p.strain_pct);
-        y_max = std::max(y_max, p.stress_MPa);
-        x_min = std::min(x_min, p.strain_pct);
-        y_min = std::min(y_min, p.stress_MPa);
-    }
-    // A little negative strain (noise, the toe) should not push the axis below zero.
-    if (x_min < 0 && -x_min < 0.03 * x_max) x_min = 0;
-    if (y_min < 0 && -y_min < 0.03 * y_max) y_min = 0;
-    if (x_max - x_min <= 0) x_max = x_min + 1;
-    if (y_max - y_min <= 0) y_max = y_min + 1;
-    const double xs = nice_step(x_max - x_min, 8), ys = nice_step(y_max - y_min, 6);
-    x_max = std::ceil(x_max / xs) * xs;
-    y_max = std::ceil(y_max / ys) * ys;
-    x_min = std::floor(x_min / xs) * xs;
-    y_min = std::floor(y_min / ys) * ys;
+    const double x_min = axes.x_min, x_max = axes.x_max, xs = axes.x_step;
+    const double y_min = axes.y_min, y_max = axes.y_max, ys = axes.y_step;
     const double pw = width - left - right, ph = height - top - bottom;
     auto X = [&](double v) { return left + (v - x_min) / (x_max - x_min) * pw; };
     auto Y = [&](double v) { return top + ph - (v - y_min) / (y_max - y_min) * ph; };
@@ -99,16 +69,8 @@ std::string svg_curve(const std::vector<CurvePoint>& curve, const std::vector<Cu
       << "<text x=\"16\" y=\"" << top + ph / 2 << "\" text-anchor=\"middle\" transform=\"rotate(-90 16 " << top + ph / 2
       << ")\">stress, MPa</text>\n</g>\n";
 
-    // Thin by a stride but keep the highest stress of each stride, so peaks
-    // such as ReH and Fm stay on the drawn line.
-    const std::size_t stride = std::max<std::size_t>(1, (pts.size() + max_points - 1) / max_points);
     s << "<polyline class=\"trace\" fill=\"none\" stroke=\"#1f4e79\" stroke-width=\"1.5\" points=\"";
-    for (std::size_t i = 0; i < pts.size(); i += stride) {
-        std::size_t best = i;
-        for (std::size_t k = i; k < std::min(pts.size(), i + stride); ++k)
-            if (pts[k].stress_MPa > pts[best].stress_MPa) best = k;
-        s << fmt(X(pts[best].strain_pct)) << ',' << fmt(Y(pts[best].stress_MPa)) << ' ';
-    }
+    for (const auto& p : axes.points) s << fmt(X(p.strain_pct)) << ',' << fmt(Y(p.stress_MPa)) << ' ';
     s << "\"/>\n<g class=\"marks\" font-size=\"11\">\n";
     int n = 0;
     for (const auto& m : marks) {

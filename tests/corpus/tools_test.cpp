@@ -1,7 +1,7 @@
 // The tools that work on stored runs: the error budget against the published
 // figures, lot parsing and batch statistics against hand calculations, and,
-// on two runs recorded by the demo daemon, `tensilectl report`, `tensilectl
-// summary` and `tensile-sim replay` end to end.
+// on two runs recorded by the demo daemon, `tensilectl report` (HTML and
+// PDF), `tensilectl summary` and `tensile-sim replay` end to end.
 //
 // The replay is read over TCP by a FramePipeline in this test (a second daemon
 // cannot be armed without the monitor API yet): the bytes must be those
@@ -14,6 +14,7 @@
 #include <fcntl.h>
 #include <poll.h>
 #include <sys/socket.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <chrono>
@@ -30,10 +31,12 @@
 #include "config/daemon_config.hpp"
 #include "daemon/offline/specimen_json.hpp"
 #include "daemon/report/batch_summary.hpp"
+#include "daemon/report/pdf_report.hpp"
 #include "daemon/report/uncertainty.hpp"
 #include "daemon/storage/store.hpp"
 #include "daemon/tensiled/frame_pipeline.hpp"
 #include "engine/analyzer.hpp"
+#include "pdf_look.hpp"
 #include "recorded_runs.hpp"
 #include "support/process.hpp"
 
@@ -148,14 +151,85 @@ TEST_CASE("tools: tensilectl report writes a self-contained HTML record of each 
     CHECK_THAT(slurp(out), Catch::Contains("Latest: <span class=\"good\">identical</span>"));
 }
 
+TEST_CASE("tools: tensilectl report writes an A4 PDF record of each run, with the curve drawn") {
+    auto store = open_db();
+    for (std::int64_t id : {1, 2}) {
+        const fs::path out = recorded() / ("run-" + std::to_string(id) + ".pdf");
+        const auto r = run_command(bin("tensilectl") + " report " + std::to_string(id) + " --db " + db().string() + " -o " +
+                                   out.string());
+        INFO(r.out);
+        REQUIRE(r.code == 0);
+        CHECK(slurp(out).starts_with("%PDF-"));
+        const auto info = run_command("pdfinfo " + out.string());
+        CHECK_THAT(info.out, Catch::Contains("595.276 x 841.89 pts (A4)"));  // poppler's own words for A4
+        // Where the curve is: our layout, as the library reports it for the same run.
+        auto laid = report::pdf_report(store, id, {});
+        REQUIRE(laid);
+        const auto look = look_at_plot(out, laid->curve_page, laid->plot);
+        INFO(look.why);
+        REQUIRE(look.rendered);
+        INFO("trace in " << look.trace_columns << " of " << look.plot_w_px << " columns, " << look.ink << " inked");
+        CHECK(look.trace_columns > look.plot_w_px / 2);
+        CHECK(look.ink > 3 * look.plot_w_px / 2);  // see stored_corpus_test.cpp for the measured range
+        CHECK(look.control_nonwhite == 0);
+        const std::string text = pdf_text(out);
+        auto rec = store.load_run(id);
+        REQUIRE(rec);
+        REQUIRE(rec->results_json);
+        const double rm = nlohmann::json::parse(*rec->results_json).at("Rm_MPa").get<double>();
+        char want[80];
+        // Value as the table prints it (%.6g), and its U by hand: Rm × √(1² + 1²) / 100 (ISO6892-uncert).
+        std::snprintf(want, sizeof want, "Rm %.6g MPa ± %.3g", rm, rm * std::sqrt(2.0) / 100);
+        CHECK_THAT(text, Catch::Contains(want));
+        CHECK_THAT(text, Catch::Contains("This software is no interlock: it never replaces the frame's own limits") &&
+                             Catch::Contains("extensometer off") && Catch::Contains("Strain rate per phase") &&
+                             Catch::Contains("force class 1 (ISO 7500-1)"));
+        // Run 1 was verified by the HTML case above when it ran first.
+        CHECK_THAT(text, Catch::Contains("Not verified yet") || Catch::Contains("Latest: identical"));
+    }
+    // --format wins over the extension; events and the note are there too.
+    const fs::path as_pdf = recorded() / "run-1.record";
+    REQUIRE(run_command(bin("tensilectl") + " report 1 --format pdf --db " + db().string() + " -o " + as_pdf.string()).code == 0);
+    CHECK(slurp(as_pdf).starts_with("%PDF-"));
+    const fs::path as_html = recorded() / "run-1.print.pdf";
+    REQUIRE(run_command(bin("tensilectl") + " report 1 --format html --db " + db().string() + " -o " + as_html.string()).code == 0);
+    CHECK(slurp(as_html).starts_with("<!DOCTYPE html>"));
+}
+
 TEST_CASE("tools: report and summary refuse bad input with one message and exit 2") {
     const std::string base = bin("tensilectl");
     auto r = run_command(base + " report 99 --db " + db().string() + " -o " + (recorded() / "x.html").string());
     CHECK(r.code == 2);
     CHECK_THAT(r.out, Catch::Contains("run 99"));
-    r = run_command(base + " report 1 --db " + db().string() + " -o " + (recorded() / "x.pdf").string());
+    r = run_command(base + " report 1 --db " + db().string() + " -o " + (recorded() / "x.txt").string());
     CHECK(r.code == 2);
-    CHECK_THAT(r.out, Catch::Contains("cairo"));
+    CHECK_THAT(r.out, Catch::Contains("x.txt") && Catch::Contains(".html or .pdf") && Catch::Contains("--format html|pdf"));
+    CHECK_FALSE(fs::exists(recorded() / "x.txt"));
+    r = run_command(base + " report 1 --db " + db().string() + " --format svg -o " + (recorded() / "x.svg").string());
+    CHECK(r.code == 2);
+    CHECK_THAT(r.out, Catch::Contains("--format"));
+    // A failed report leaves an earlier file of that name as it was, and no temp file.
+    const fs::path keep = recorded() / "keep.pdf";
+    std::ofstream(keep) << "earlier";
+    r = run_command(base + " report 99 --db " + db().string() + " -o " + keep.string());
+    CHECK(r.code == 2);
+    CHECK(slurp(keep) == "earlier");
+    r = run_command(base + " report 1 --db " + db().string() + " -o " + (recorded() / "no-such-folder" / "x.pdf").string());
+    CHECK(r.code == 2);
+    CHECK_THAT(r.out, Catch::Contains("no-such-folder") && Catch::Contains("cannot create"));
+    // Never renamed over something that is not a regular file (a pipe of
+    // our own here, so a regression cannot replace a device of the machine).
+    const fs::path pipe = recorded() / "pipe.pdf";
+    REQUIRE(::mkfifo(pipe.c_str(), 0600) == 0);
+    r = run_command(base + " report 1 --db " + db().string() + " -o " + pipe.string());
+    CHECK(r.code == 2);
+    CHECK_THAT(r.out, Catch::Contains("not a regular file"));
+    CHECK(fs::is_fifo(pipe));
+    fs::remove(pipe);
+    r = run_command(base + " report 1 --db " + db().string() + " -o " + recorded().string() + " --format html");
+    CHECK(r.code == 2);
+    CHECK(fs::is_directory(recorded()));
+    for (const auto& e : fs::directory_iterator(recorded())) CHECK_THAT(e.path().filename().string(), !Catch::Contains(".part-"));
     r = run_command(base + " report 1 --db " + (recorded() / "none.db").string() + " -o x.html");
     CHECK(r.code == 2);
     r = run_command(base + " report 1 --db " + db().string() + " -o x.html --force-class 7");
