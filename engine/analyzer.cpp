@@ -20,7 +20,7 @@ constexpr int departure_frames = 3;
 }  // namespace
 
 Analyzer::Analyzer(SpecimenGeometry geometry, Profile profile)
-    : geometry_(geometry), profile_(std::move(profile)), yield_(profile_), breaker_(profile_), rates_(profile_) {
+    : geometry_(geometry), profile_(std::move(profile)), yield_(profile_), breaker_(profile_), rates_(profile_, geometry.L0_mm) {
     proof_found_.assign(profile_.proof_offsets_pct.size(), false);
     total_found_.assign(profile_.total_extensions_pct.size(), false);
     for (double x : profile_.proof_offsets_pct) proofs_.push_back({x, std::nullopt});

@@ -5,21 +5,50 @@
 
 namespace tensile {
 
+namespace {
+
+// Moves `tail` forward so rows [tail, i] span at most `window` seconds.
+void follow(const History& h, std::size_t i, double window, std::size_t& tail) {
+    const double now = h.time_s[i];
+    while (tail + 1 < i && now - h.time_s[tail + 1] >= window) ++tail;
+}
+
+}  // namespace
+
+bool RateMonitor::standing_still(const History& h, std::size_t i, double below_per_s) const {
+    const double span = h.time_s[i] - h.time_s[recent_tail_];
+    if (!(span > 0)) return false;
+    const double xh_now = h.crosshead_mm[i], xh_then = h.crosshead_mm[recent_tail_];
+    const double moved = std::isfinite(xh_now) && std::isfinite(xh_then) && L0_mm_ > 0
+                             ? (xh_now - xh_then) / L0_mm_
+                             : h.strain[i] - h.strain[recent_tail_];
+    return std::abs(moved / span) < below_per_s;
+}
+
 RateMonitor::Change RateMonitor::update(const History& h, std::size_t i, RatePhase phase,
                                         RateCompliance (&compliance)[rate_phase_count]) {
     const double now = h.time_s[i];
     const double window = profile_.rate_window_s;
-    while (tail_ + 1 < i && now - h.time_s[tail_ + 1] >= window) ++tail_;
+    follow(h, i, window, tail_);
+    follow(h, i, 0.1 * window, recent_tail_);
+    const RateBand& band = profile_.rate_bands[static_cast<int>(phase)];
+    const bool banded = band.max_per_s > 0;
+    auto pause = [&] {
+        tail_ = i;                   // the window starts again when the machine moves
+        inside_ = reported_inside_;  // and a change not yet reported is forgotten
+        rate_.reset();
+        return Change::none;
+    };
+    if (i > 0 && banded && standing_still(h, i, band.min_per_s / 20.0)) return pause();
+
     const double span = now - h.time_s[tail_];
     if (i == 0 || span < 0.5 * window || !(span > 0)) {
         rate_.reset();
         return Change::none;
     }
     rate_ = (h.strain[i] - h.strain[tail_]) / span;
-
-    const RateBand& band = profile_.rate_bands[static_cast<int>(phase)];
-    if (!(band.max_per_s > 0)) return Change::none;
-    if (std::abs(*rate_) < band.min_per_s / 20.0) return Change::none;  // paused
+    if (!banded) return Change::none;
+    if (std::abs(*rate_) < band.min_per_s / 20.0) return pause();
 
     const double dt = now - h.time_s[i - 1];
     const bool inside = *rate_ >= band.min_per_s && *rate_ <= band.max_per_s;
