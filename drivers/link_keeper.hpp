@@ -1,4 +1,4 @@
-// What TCP and serial sources share: capped exponential backoff with jitter,
+// What TCP and serial sources share: timed waits (after), capped exponential backoff with jitter,
 // the state machine's one-log-line-per-change policy, gap bookkeeping, and
 // the bounded queue of commands waiting to be written.
 //
@@ -8,6 +8,7 @@
 // not flood the log.
 #pragma once
 
+#include <chrono>
 #include <deque>
 #include <memory>
 #include <random>
@@ -15,6 +16,7 @@
 #include <utility>
 
 #include <boost/asio/io_context.hpp>
+#include <boost/asio/steady_timer.hpp>
 #include <boost/asio/post.hpp>
 
 #include <spdlog/spdlog.h>
@@ -22,6 +24,17 @@
 #include "byte_source.hpp"
 
 namespace tensile::drivers {
+
+// Calls `then` after `seconds` on `timer` unless the wait is cancelled (a new
+// attempt, or the source stopping, cancels it). The sources' timeouts and
+// retry delays all go through here.
+template <class Then>
+void after(boost::asio::steady_timer& timer, double seconds, Then then) {
+    timer.expires_after(std::chrono::duration_cast<std::chrono::steady_clock::duration>(std::chrono::duration<double>(seconds)));
+    timer.async_wait([then = std::move(then)](boost::system::error_code ec) {
+        if (!ec) then();
+    });
+}
 
 struct BackoffConfig {
     double initial_s = 0.1;

@@ -87,11 +87,8 @@ void SerialSource::fail(const std::string& reason) {
     keeper_.failed(reason);
     auto self = shared_from_this();
     const auto gen = generation_;
-    timer_.expires_after(std::chrono::duration_cast<std::chrono::steady_clock::duration>(
-        std::chrono::duration<double>(backoff_.next())));
-    timer_.async_wait([this, self, gen](boost::system::error_code e) {
-        if (e || gen != generation_ || !running_) return;
-        open();
+    after(timer_, backoff_.next(), [this, self, gen] {
+        if (gen == generation_ && running_) open();
     });
 }
 

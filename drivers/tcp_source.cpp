@@ -57,10 +57,8 @@ void TcpSource::connect() {
     if (keeper_.state() == SourceState::stopped)
         keeper_.change(SourceState::connecting, "to " + cfg_.host + ":" + std::to_string(cfg_.port));
     auto self = shared_from_this();
-    timer_.expires_after(std::chrono::duration_cast<std::chrono::steady_clock::duration>(
-        std::chrono::duration<double>(cfg_.connect_timeout_s)));
-    timer_.async_wait([this, self, gen](boost::system::error_code ec) {
-        if (ec || gen != generation_) return;
+    after(timer_, cfg_.connect_timeout_s, [this, self, gen] {
+        if (gen != generation_) return;
         resolver_.cancel();
         boost::system::error_code ignored;
         socket_.close(ignored);  // the pending connect completes with operation_aborted
@@ -140,11 +138,8 @@ void TcpSource::fail(const std::string& reason) {
 void TcpSource::schedule_retry() {
     auto self = shared_from_this();
     const auto gen = generation_;
-    timer_.expires_after(std::chrono::duration_cast<std::chrono::steady_clock::duration>(
-        std::chrono::duration<double>(backoff_.next())));
-    timer_.async_wait([this, self, gen](boost::system::error_code ec) {
-        if (ec || gen != generation_ || !running_) return;
-        connect();
+    after(timer_, backoff_.next(), [this, self, gen] {
+        if (gen == generation_ && running_) connect();
     });
 }
 
