@@ -64,8 +64,10 @@ private:
 
 struct ChunkingSink : FrameSink {
     ChunkQueue& queue;
+    FrameSink& consumer;
     std::vector<Frame> chunk;
-    explicit ChunkingSink(ChunkQueue& q) : queue(q), chunk(q.fresh()) {}
+    ChunkingSink(ChunkQueue& q, FrameSink& c) : queue(q), consumer(c), chunk(q.fresh()) {}
+    void passed(std::size_t offset) override { consumer.passed(offset); }
     void take(const Frame& f) override {
         chunk.push_back(f);
         if (chunk.size() == chunk_frames) {
@@ -84,7 +86,7 @@ Result<TableInfo> scan_table_pipelined(std::string_view text, const TableLayout&
     ChunkQueue queue;
     std::optional<Result<TableInfo>> outcome;
     std::thread reader([&] {
-        ChunkingSink chunker(queue);
+        ChunkingSink chunker(queue, sink);
         outcome.emplace(scan_table(text, layout, chunker));
         chunker.flush();
         queue.finish();

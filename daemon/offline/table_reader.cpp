@@ -289,7 +289,7 @@ Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, F
         f.extension_mm *= length_scale[0];
         f.crosshead_mm *= length_scale[1];
         sink.take(f);
-        ++table.frames;
+        if ((++table.frames & 0x3fff) == 0) sink.passed(pos);
     }
     if (table.frames == 0) return Error{"no data rows: expected lines of numbers after an optional header"};
     table.notes.push_back(std::string("separator '") + (sep == '\t' ? "tab" : std::string(1, sep)) + "'" +

@@ -46,6 +46,9 @@ class FrameSink {
 public:
     virtual ~FrameSink() = default;
     virtual void take(const Frame& frame) = 0;
+    // Every few thousand rows: the text before `offset` has been read and
+    // will not be looked at again (a reader of a mapped file may release it).
+    virtual void passed(std::size_t /*offset*/) {}
 };
 
 struct TableInfo {

@@ -167,28 +167,17 @@ struct AnalyzerSink : FrameSink {
     void take(const Frame& f) override { analyzer.push(f, events); }
 };
 
-// Releases the file's pages behind the analysis as it goes. Each frame is
-// one line of text (header and blank lines only make the count lag, the safe
-// side), so after every batch of frames the cursor moves on as many line
-// ends; the reader runs ahead of the analyzer, so text a margin behind the
-// cursor is done with. Released text read again only costs a page read.
+// Hands frames to the analyzer and gives the mapped file's pages back as
+// soon as the reading thread has passed them, so memory stays flat whatever
+// the file's size.
 struct ReleasingSink : FrameSink {
-    static constexpr std::size_t batch = 65536;
-    static constexpr std::size_t margin = 4 * 1024 * 1024;
+    static constexpr std::size_t margin = 1024 * 1024;  // the reader may still be in the line before
     FrameSink& inner;
     MappedFile& file;
-    std::size_t taken = 0;
-    std::size_t cursor = 0;  // byte offset past the line of the batch's last frame, or before
     ReleasingSink(FrameSink& s, MappedFile& f) : inner(s), file(f) {}
-    void take(const Frame& f) override {
-        inner.take(f);
-        if (++taken % batch != 0) return;
-        const std::string_view text = file.text();
-        for (std::size_t lines = 0; lines < batch && cursor < text.size(); ++lines) {
-            const void* end = std::memchr(text.data() + cursor, '\n', text.size() - cursor);
-            cursor = end ? static_cast<std::size_t>(static_cast<const char*>(end) - text.data()) + 1 : text.size();
-        }
-        if (cursor > margin) file.release_before(cursor - margin);
+    void take(const Frame& f) override { inner.take(f); }
+    void passed(std::size_t offset) override {
+        if (offset > margin) file.release_before(offset - margin);
     }
 };
 
