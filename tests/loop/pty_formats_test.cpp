@@ -79,6 +79,10 @@ TEST_CASE("each wire format over a pty: every record arrives, fault counters equ
             std::uint64_t frames = 0;
             AcquisitionHandlers h;
             h.on_frames = [&](const std::vector<drivers::AlignedFrame>& f, double) { frames += f.size(); };
+            // A pty never drops its line: a gap here would mean the source lost the
+            // port and reopened it, which is where bytes can go missing.
+            std::string gaps;
+            h.on_gap = [&](const drivers::GapEvent& g) { gaps += g.reason + "; "; };
             Acquisition acquisition(io, load_daemon_config_text(rig_config(format, pty), "/tmp"), h,
                                     std::make_shared<spdlog::logger>("pty", std::make_shared<spdlog::sinks::null_sink_mt>()));
             acquisition.start();
@@ -91,6 +95,7 @@ TEST_CASE("each wire format over a pty: every record arrives, fault counters equ
             const auto& c = status[0].counters;
             const auto& s = c.stream;
             const std::uint64_t samples = truth["run"]["samples"].get<std::uint64_t>();
+            INFO(format << ": gaps: " << (gaps.empty() ? "none" : gaps));
             const auto& torn = fault(truth, "torn");
             const auto& nan = fault(truth, "nan");
             INFO(format << ": " << samples << " samples sent; " << s.records << " records, " << s.bad_records << " bad, "
