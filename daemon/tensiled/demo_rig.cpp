@@ -169,6 +169,9 @@ void DemoRig::spawn(const DemoSpecimen& s) {
     posix_spawn_file_actions_t actions;
     posix_spawn_file_actions_init(&actions);
     posix_spawn_file_actions_adddup2(&actions, out[1], 1);
+    // Nothing else of ours goes with it: an inherited listening socket would
+    // keep the monitor's port taken after the daemon is gone.
+    posix_spawn_file_actions_addclosefrom_np(&actions, 3);
     pid_t pid = -1;
     const int err = posix_spawn(&pid, simulator_.c_str(), &actions, nullptr, argv.data(), environ);
     posix_spawn_file_actions_destroy(&actions);
