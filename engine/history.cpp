@@ -1,26 +1,21 @@
 // Compaction of the analyzer's history; see history.hpp.
 #include "history.hpp"
 
-#include <algorithm>
 #include <cmath>
-#include <cstring>
 
 namespace tensile {
 
 namespace {
 
-// Mean of the finite values in v[from, to); NaN when there are none. Written
-// without a branch per value so the compiler can vectorise it: compaction
-// runs over every row of a long run many times.
-double finite_mean(const double* v, std::size_t from, std::size_t to) {
-    if (to - from == 1) return v[from];  // a group of one stays as it was
+// Mean of the finite values in v[from, to); NaN when there are none.
+double finite_mean(const std::vector<double>& v, std::size_t from, std::size_t to) {
     double sum = 0;
     std::size_t count = 0;
-    for (std::size_t k = from; k < to; ++k) {
-        const bool finite = std::isfinite(v[k]);
-        sum += finite ? v[k] : 0.0;
-        count += finite;
-    }
+    for (std::size_t k = from; k < to; ++k)
+        if (std::isfinite(v[k])) {
+            sum += v[k];
+            ++count;
+        }
     return count ? sum / static_cast<double>(count) : NAN;
 }
 
@@ -50,28 +45,24 @@ RowMap History::compact(std::size_t target, std::size_t keep) {
     const std::size_t first_single = (merged_rows_ + map.ratio - 1) / map.ratio;
     map.kept_at = first_single + (map.single_from - merged_rows_) / stride;
 
-    // New row j only reads old rows at or after j, so the merge runs in
-    // place: merged rows regrouped `ratio` to one, singles `stride` to one,
-    // and the kept singles moved down in one block.
-    const std::size_t kept = n - map.single_from;
-    const std::size_t rows = map.kept_at + kept;
-    for (auto* column : {&time_s, &force_N, &strain, &stress_MPa, &extension_mm, &crosshead_mm}) {
-        double* v = column->data();
+    // Old row ranges of each new row, in order; new row j only reads old rows
+    // at or after j, so the merge runs in place.
+    auto each_group = [&](auto&& take) {
         std::size_t j = 0;
-        for (std::size_t k = 0; k < merged_rows_; k += map.ratio)
-            v[j++] = finite_mean(v, k, std::min(k + map.ratio, merged_rows_));
-        for (std::size_t k = merged_rows_; k < map.single_from; k += stride) v[j++] = finite_mean(v, k, k + stride);
-        std::memmove(v + j, v + map.single_from, kept * sizeof(double));
-        column->resize(rows);
+        for (std::size_t k = 0; k < merged_rows_; k += map.ratio) take(j++, k, std::min(k + map.ratio, merged_rows_));
+        for (std::size_t k = merged_rows_; k < map.single_from; k += stride) take(j++, k, k + stride);
+        for (std::size_t k = map.single_from; k < n; ++k) take(j++, k, k + 1);
+        return j;
+    };
+    std::size_t rows = 0;
+    for (auto* v : {&time_s, &force_N, &strain, &stress_MPa, &extension_mm, &crosshead_mm}) {
+        rows = each_group([&](std::size_t j, std::size_t from, std::size_t to) {
+            (*v)[j] = to - from == 1 ? (*v)[from] : finite_mean(*v, from, to);
+        });
+        v->resize(rows);
     }
-    {
-        double* v = running_max.data();
-        std::size_t j = 0;
-        for (std::size_t k = 0; k < merged_rows_; k += map.ratio) v[j++] = v[std::min(k + map.ratio, merged_rows_) - 1];
-        for (std::size_t k = merged_rows_; k < map.single_from; k += stride) v[j++] = v[k + stride - 1];
-        std::memmove(v + j, v + map.single_from, kept * sizeof(double));
-        running_max.resize(rows);
-    }
+    each_group([&](std::size_t j, std::size_t, std::size_t to) { running_max[j] = running_max[to - 1]; });
+    running_max.resize(rows);
     stride_ = stride;
     merged_rows_ = map.kept_at;
     return map;
