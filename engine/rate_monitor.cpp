@@ -34,21 +34,28 @@ RateMonitor::Change RateMonitor::update(const History& h, std::size_t i, RatePha
     const RateBand& band = profile_.rate_bands[static_cast<int>(phase)];
     const bool banded = band.max_per_s > 0;
     auto pause = [&] {
+        paused_ = true;
         tail_ = i;                   // the window starts again when the machine moves
         inside_ = reported_inside_;  // and a change not yet reported is forgotten
         rate_.reset();
         return Change::none;
     };
-    if (i > 0 && banded && standing_still(h, i, band.min_per_s / 20.0)) return pause();
-
     const double span = now - h.time_s[tail_];
     if (i == 0 || span < 0.5 * window || !(span > 0)) {
+        // While paused the window keeps restarting; it grows again once the
+        // machine moves.
+        if (i > 0 && banded && paused_ && standing_still(h, i, band.min_per_s / 20.0)) return pause();
         rate_.reset();
         return Change::none;
     }
     rate_ = (h.strain[i] - h.strain[tail_]) / span;
+    paused_ = false;
     if (!banded) return Change::none;
-    if (std::abs(*rate_) < band.min_per_s / 20.0) return pause();
+    // A standstill only matters once the rate has fallen below the band (the
+    // ramp into a hold); until then the time is rightly counted inside.
+    if (std::abs(*rate_) < band.min_per_s / 20.0 ||
+        (*rate_ < band.min_per_s && standing_still(h, i, band.min_per_s / 20.0)))
+        return pause();
 
     const double dt = now - h.time_s[i - 1];
     const bool inside = *rate_ >= band.min_per_s && *rate_ <= band.max_per_s;

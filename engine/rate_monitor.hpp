@@ -49,6 +49,7 @@ private:
     bool reported_inside_ = true;   // the state last reported
     bool inside_ = true;            // the state now
     double state_since_s_ = 0;
+    bool paused_ = false;           // the last judgement was a pause
 };
 
 }  // namespace tensile
