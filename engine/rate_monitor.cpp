@@ -15,14 +15,20 @@ void follow(const History& h, std::size_t i, double window, std::size_t& tail) {
 
 }  // namespace
 
-bool RateMonitor::standing_still(const History& h, std::size_t i, double below_per_s) const {
-    const double span = h.time_s[i] - h.time_s[recent_tail_];
-    if (!(span > 0)) return false;
+// Judged afresh every fiftieth of the window only: a pause found a few
+// milliseconds late changes nothing, and this ran on every row of a long
+// recording.
+bool RateMonitor::standing_still(const History& h, std::size_t i, double below_per_s) {
+    const double now = h.time_s[i];
+    if (now >= still_judged_s_ && now - still_judged_s_ < 0.02 * profile_.rate_window_s) return still_;
+    still_judged_s_ = now;
+    const double span = now - h.time_s[recent_tail_];
     const double xh_now = h.crosshead_mm[i], xh_then = h.crosshead_mm[recent_tail_];
     const double moved = std::isfinite(xh_now) && std::isfinite(xh_then) && L0_mm_ > 0
                              ? (xh_now - xh_then) / L0_mm_
                              : h.strain[i] - h.strain[recent_tail_];
-    return std::abs(moved / span) < below_per_s;
+    still_ = span > 0 && std::abs(moved) < below_per_s * span;
+    return still_;
 }
 
 RateMonitor::Change RateMonitor::update(const History& h, std::size_t i, RatePhase phase,

@@ -39,7 +39,7 @@ public:
     [[nodiscard]] std::optional<double> rate_per_s() const { return rate_; }
 
 private:
-    [[nodiscard]] bool standing_still(const History& h, std::size_t i, double below_per_s) const;
+    [[nodiscard]] bool standing_still(const History& h, std::size_t i, double below_per_s);
 
     const Profile& profile_;
     double L0_mm_;
@@ -50,6 +50,8 @@ private:
     bool inside_ = true;            // the state now
     double state_since_s_ = 0;
     bool paused_ = false;           // the last judgement was a pause
+    bool still_ = false;            // the machine stood still when last judged ...
+    double still_judged_s_ = -1e300;  // ... at this time
 };
 
 }  // namespace tensile
