@@ -60,7 +60,9 @@ void Analyzer::note_force_noise(double force_N) {
     if (i >= 2) {
         const double d2 = std::abs(force_N - 2.0 * last_force_[1] + last_force_[0]);
         const double clipped = i < 64 ? d2 : std::min(d2, 10.0 * force_d2_mean_);
-        force_d2_mean_ += (clipped - force_d2_mean_) / std::min<double>(static_cast<double>(i - 1), 1000.0);
+        // The mean's memory grows to 1000 frames; past that a multiply, not a division per frame.
+        const double step = clipped - force_d2_mean_;
+        force_d2_mean_ += i <= 1001 ? step / static_cast<double>(i - 1) : step * 0.001;
     }
     last_force_[0] = last_force_[1];
     last_force_[1] = force_N;
