@@ -248,7 +248,7 @@ void Analyzer::follow_modulus(std::size_t i, std::vector<Event>& events) {
 // than provisional_rows of them), which gives the same line at a fraction of
 // the work.
 std::optional<ModulusFit> Analyzer::provisional_modulus(std::size_t n) {
-    constexpr std::size_t provisional_rows = 8192;
+    constexpr std::size_t provisional_rows = 4096;
     if (n < 2 * provisional_rows)
         return find_modulus(history_.strain_upto(n), history_.stress_upto(n), history_.max_upto(n), profile_);
     const std::size_t step = n / provisional_rows;
