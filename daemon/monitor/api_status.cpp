@@ -41,7 +41,11 @@ json recorder_json(const storage::RecorderCounters& c) {
             {"write_errors", c.write_errors},
             {"queue_depth", c.frames_waiting},
             {"queue_high_water", c.frame_high_water},
-            {"disk_low", c.disk_low}};
+            {"disk_low", c.disk_low},
+            {"db_locked", c.db_locked},
+            {"db_locked_s", c.db_locked_s},
+            {"lock_episodes", c.lock_episodes},
+            {"backlog_bytes", c.backlog_bytes}};
 }
 
 }  // namespace
@@ -132,6 +136,11 @@ std::string Api::metrics() const {
     m << "tensiled_recorder_frames_dropped_total " << rc.frames_dropped << '\n';
     metric("tensiled_recorder_write_errors_total", "counter", "Database write errors.");
     m << "tensiled_recorder_write_errors_total " << rc.write_errors << '\n';
+
+    metric("tensiled_recorder_db_locked", "gauge", "1 while another process holds the database's write lock.");
+    m << "tensiled_recorder_db_locked " << rc.db_locked << '\n';
+    metric("tensiled_recorder_backlog_bytes", "gauge", "Written data held in memory while the database is locked.");
+    m << "tensiled_recorder_backlog_bytes " << rc.backlog_bytes << '\n';
 
     metric("tensiled_run_state", "gauge", "1 for the rig's current run state.");
     for (auto s : {RunState::idle, RunState::armed, RunState::running, RunState::finished, RunState::aborted,
