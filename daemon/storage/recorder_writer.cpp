@@ -277,6 +277,9 @@ Recorder::Writer::Outcome Recorder::Writer::commit() {
     }
     commits.fetch_add(1, std::memory_order_relaxed);
     frames_committed.fetch_add(uncommitted_frames_, std::memory_order_relaxed);
+    for (const Write& w : backlog_)
+        if (const auto* raw = std::get_if<RawWrite>(&w))
+            raw_bytes_written.fetch_add(raw->chunk.bytes.size(), std::memory_order_relaxed);
     uncommitted_frames_ = 0;
     backlog_.clear();
     backlog_size_ = 0;
