@@ -86,7 +86,11 @@ json Api::status() const {
     json sources = json::array();
     for (const auto& s : c_.rig.acquisition().status()) sources.push_back(source_json(s));
     j["sources"] = sources;
-    j["acquisition"] = {{"frames", c_.rig.acquisition().frames_out()}, {"frames_per_s", c_.feed.frames_per_s()}};
+    const auto [latency_p50, latency_p99] = c_.rig.event_latency_p50_p99();
+    // From reading the bytes that complete a frame to its events out (the last few thousand).
+    j["acquisition"] = {{"frames", c_.rig.acquisition().frames_out()},
+                        {"frames_per_s", c_.feed.frames_per_s()},
+                        {"event_latency_ms", {{"p50", 1e3 * latency_p50}, {"p99", 1e3 * latency_p99}}}};
     j["recorder"] = recorder_json(c_.keeper.counters());
     j["monitor"] = {{"live_clients", c_.hub.clients()}, {"live_clients_dropped", c_.hub.dropped()},
                     {"token_required_for_reads", !c_.access.loopback()}};
