@@ -186,7 +186,9 @@ TEST_CASE("a lock that outlasts the backlog and the queue: frames dropped, count
     REQUIRE(store.ok());
     CHECK(store->load_frames(run)->size() == accepted);
     bool said = false;
-    for (const auto& a : *store->load_alarms(run))
+    const auto alarms_stored = store->load_alarms(run);  // kept: a loop over *temporary would dangle
+    REQUIRE(alarms_stored.ok());
+    for (const auto& a : *alarms_stored)
         if (a.kind == "queue_full" && a.message.find("locked by another process") != std::string::npos) said = true;
     CHECK(said);
 }
