@@ -72,8 +72,12 @@ void Recorder::Writer::run() {
         take_frames(std::span<const Frame>(frames).subspan(pos));
         taken += frames.size();
         const bool due = stop || commit_now_ || Clock::now() >= next_commit_;
-        if (due && (!locked_since_ || stop || Clock::now() >= retry_at)) {
-            if (commit() == Outcome::locked) retry_at = Clock::now() + retry_pause;
+        // After a failed try, the next one waits a little (a lock) or a second
+        // (any other error), so a lasting fault neither spins nor floods the log.
+        if (due && (stop || Clock::now() >= retry_at)) {
+            const Outcome outcome = commit();
+            if (outcome != Outcome::committed)
+                retry_at = Clock::now() + (outcome == Outcome::locked ? retry_pause : std::chrono::milliseconds(1000));
         }
         if (stop) {
             if (locked_since_) give_up_at_stop();
