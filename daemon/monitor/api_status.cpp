@@ -41,7 +41,11 @@ json recorder_json(const storage::RecorderCounters& c) {
             {"write_errors", c.write_errors},
             {"queue_depth", c.frames_waiting},
             {"queue_high_water", c.frame_high_water},
-            {"disk_low", c.disk_low}};
+            {"disk_low", c.disk_low},
+            {"db_locked", c.db_locked},
+            {"db_locked_s", c.db_locked_s},
+            {"lock_episodes", c.lock_episodes},
+            {"backlog_bytes", c.backlog_bytes}};
 }
 
 }  // namespace
@@ -82,7 +86,11 @@ json Api::status() const {
     json sources = json::array();
     for (const auto& s : c_.rig.acquisition().status()) sources.push_back(source_json(s));
     j["sources"] = sources;
-    j["acquisition"] = {{"frames", c_.rig.acquisition().frames_out()}, {"frames_per_s", c_.feed.frames_per_s()}};
+    const auto [latency_p50, latency_p99] = c_.rig.event_latency_p50_p99();
+    // From reading the bytes that complete a frame to its events out (the last few thousand).
+    j["acquisition"] = {{"frames", c_.rig.acquisition().frames_out()},
+                        {"frames_per_s", c_.feed.frames_per_s()},
+                        {"event_latency_ms", {{"p50", 1e3 * latency_p50}, {"p99", 1e3 * latency_p99}}}};
     j["recorder"] = recorder_json(c_.keeper.counters());
     j["monitor"] = {{"live_clients", c_.hub.clients()}, {"live_clients_dropped", c_.hub.dropped()},
                     {"token_required_for_reads", !c_.access.loopback()}};
@@ -132,6 +140,11 @@ std::string Api::metrics() const {
     m << "tensiled_recorder_frames_dropped_total " << rc.frames_dropped << '\n';
     metric("tensiled_recorder_write_errors_total", "counter", "Database write errors.");
     m << "tensiled_recorder_write_errors_total " << rc.write_errors << '\n';
+
+    metric("tensiled_recorder_db_locked", "gauge", "1 while another process holds the database's write lock.");
+    m << "tensiled_recorder_db_locked " << rc.db_locked << '\n';
+    metric("tensiled_recorder_backlog_bytes", "gauge", "Written data held in memory while the database is locked.");
+    m << "tensiled_recorder_backlog_bytes " << rc.backlog_bytes << '\n';
 
     metric("tensiled_run_state", "gauge", "1 for the rig's current run state.");
     for (auto s : {RunState::idle, RunState::armed, RunState::running, RunState::finished, RunState::aborted,

@@ -48,6 +48,19 @@ bool Recorder::try_push_event(const Event& event) { return inbox_.push(event); }
 bool Recorder::try_push_alarm(AlarmRecord alarm) { return inbox_.push(std::move(alarm)); }
 bool Recorder::try_push_counter(CounterRecord counter) { return inbox_.push(std::move(counter)); }
 
+void Recorder::set_state(std::int64_t run, RunState state, std::string cause, double unix_s) {
+    inbox_.push(StateWrite{run, state, std::move(cause), unix_s}, true);
+}
+
+std::future<Status> Recorder::finish_run(std::int64_t run, RunState state, std::string cause, double unix_s,
+                                         std::optional<std::string> results_json) {
+    auto done = std::make_shared<std::promise<Status>>();
+    auto future = done->get_future();
+    if (!inbox_.push(FinishRun{run, state, std::move(cause), unix_s, std::move(results_json), done}, true))
+        done->set_value(Error{"recorder inbox refused closing run " + std::to_string(run)});
+    return future;
+}
+
 Status Recorder::flush() {
     if (!thread_.joinable()) return Error{"recorder is stopped"};
     auto done = std::make_shared<std::promise<Status>>();
@@ -81,6 +94,10 @@ RecorderCounters Recorder::counters() const {
         c.commits = writer_->commits.load();
         c.write_errors = writer_->write_errors.load();
         c.disk_low = writer_->disk_low.load();
+        c.db_locked = writer_->db_locked.load();
+        c.db_locked_s = writer_->db_locked_s.load();
+        c.lock_episodes = writer_->lock_episodes.load();
+        c.backlog_bytes = writer_->backlog_bytes.load();
     }
     return c;
 }

@@ -12,6 +12,16 @@
 //   `disk_check_interval`; below `min_free_bytes` frames and raw bytes are
 //   refused (counted), an alarm is written, and what is stored stays as it is.
 //   Recording resumes, with an alarm, once space is back above the minimum.
+// - Another process holding the database's write lock (an open sqlite3 session,
+//   a backup tool): the writer keeps everything since its last commit in memory
+//   (the backlog, up to `backlog_bytes`), raises a `database_locked` alarm,
+//   tries again every `poll_interval` (each try waits the connection's busy
+//   timeout) and writes the backlog in one transaction when the lock goes, with
+//   a `database_unlocked` alarm: nothing is lost. Past `backlog_bytes` it stops
+//   taking from the inbox, which then fills and refuses (counted, `queue_full`
+//   alarm): a lock that outlasts both is a loud loss, never a silent one.
+//   Alarms reach `notify` (from the writer thread) as soon as they are raised,
+//   and the database once it can be written.
 //
 // Threading: the try_* calls and begin_run/end_run may come from any thread
 // and never block on the disk. flush() and stop() block the caller until the
@@ -50,7 +60,10 @@ struct RecorderOptions {
     std::chrono::milliseconds poll_interval{10};   // how long the writer naps when nothing is pushed
     std::uint64_t min_free_bytes = 256ull << 20;
     std::chrono::milliseconds disk_check_interval{1000};
+    std::size_t backlog_bytes = 32u << 20;         // written data held while the database is locked
     std::shared_ptr<spdlog::logger> log;           // may be null: no logging
+    // Called on the writer thread with each alarm it raises (kind, message); may be empty.
+    std::function<void(const std::string&, const std::string&)> notify;
 };
 
 struct RecorderCounters {
@@ -69,6 +82,10 @@ struct RecorderCounters {
     std::size_t frame_high_water = 0;
     std::size_t message_high_water = 0;
     bool disk_low = false;
+    bool db_locked = false;                 // the last write attempt met another process's lock
+    double db_locked_s = 0;                 // how long the current (or the last) lock lasted
+    std::uint64_t lock_episodes = 0;        // locks met since start
+    std::size_t backlog_bytes = 0;          // written data held in memory, not yet committed
 };
 
 class Recorder {
@@ -89,6 +106,13 @@ public:
     bool try_push_event(const Event& event);
     bool try_push_alarm(AlarmRecord alarm);
     bool try_push_counter(CounterRecord counter);
+    // A live run's state change, written in order with its data.
+    void set_state(std::int64_t run, RunState state, std::string cause, double unix_s);
+    // Ends the run (after end_run): results, closed state and digest in one
+    // transaction, after every frame pushed before. The future is ready once
+    // that is committed (or failed); the writer keeps it through a lock.
+    std::future<Status> finish_run(std::int64_t run, RunState state, std::string cause, double unix_s,
+                                   std::optional<std::string> results_json);
 
     // Blocks until everything pushed before is committed.
     Status flush();

@@ -15,6 +15,7 @@
 #include <future>
 #include <memory>
 #include <mutex>
+#include <optional>
 #include <span>
 #include <string>
 #include <variant>
@@ -31,7 +32,17 @@ struct BeginRun { std::int64_t run; };
 struct EndRun {};
 struct RawPiece { std::string source; std::string bytes; double arrival_s; };
 struct FlushRequest { std::shared_ptr<std::promise<Status>> done; };
-using Payload = std::variant<BeginRun, EndRun, RawPiece, Event, AlarmRecord, CounterRecord, FlushRequest>;
+// A live run's state change, and its close (results, final state, digest).
+struct StateWrite { std::int64_t run; RunState state; std::string cause; double unix_s; };
+struct FinishRun {
+    std::int64_t run;
+    RunState state;
+    std::string cause;
+    double unix_s;
+    std::optional<std::string> results_json;
+    std::shared_ptr<std::promise<Status>> done;
+};
+using Payload = std::variant<BeginRun, EndRun, RawPiece, Event, AlarmRecord, CounterRecord, FlushRequest, StateWrite, FinishRun>;
 
 struct Message {
     std::uint64_t frames_before = 0;  // frames pushed (accepted) before this message

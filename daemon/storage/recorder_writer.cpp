@@ -5,6 +5,7 @@
 #include <filesystem>
 #include <spdlog/spdlog.h>
 #include <sys/statvfs.h>
+#include <thread>
 
 #include "frame_codec.hpp"
 
@@ -23,6 +24,15 @@ std::optional<std::uint64_t> free_bytes(const std::string& db_path) {
     return static_cast<std::uint64_t>(vfs.f_bavail) * vfs.f_frsize;
 }
 
+std::string seconds(double s) {
+    char buf[32];
+    std::snprintf(buf, sizeof buf, "%.1f s", s);
+    return buf;
+}
+
+// Between two tries at a locked database; each try also waits the busy timeout.
+constexpr auto retry_pause = std::chrono::milliseconds(50);
+
 }  // namespace
 
 Recorder::Writer::Writer(Store store, const RecorderOptions& options, RecorderInbox& inbox,
@@ -38,10 +48,18 @@ void Recorder::Writer::run() {
     std::uint64_t taken = 0;  // frames taken from the inbox so far
     next_commit_ = Clock::now() + options_.commit_interval;
     next_disk_check_ = Clock::now();
+    Clock::time_point retry_at{};
     for (;;) {
         // Read before taking: everything pushed before stop() is in this last take.
         const bool stop = stopping_.load();
-        inbox_.take(frames, messages, options_.poll_interval, stopping_);
+        // A full backlog leaves the rest in the inbox, which is bounded too.
+        if (stop || backlog_size_ < options_.backlog_bytes) {
+            inbox_.take(frames, messages, options_.poll_interval, stopping_);
+        } else {
+            frames.clear();
+            messages.clear();
+            std::this_thread::sleep_for(options_.poll_interval);
+        }
         const auto now = Clock::now();
         if (now >= next_disk_check_) check_disk(now);
         std::size_t pos = 0;
@@ -53,8 +71,18 @@ void Recorder::Writer::run() {
         }
         take_frames(std::span<const Frame>(frames).subspan(pos));
         taken += frames.size();
-        if (stop || Clock::now() >= next_commit_) commit();
-        if (stop) return;
+        const bool due = stop || commit_now_ || Clock::now() >= next_commit_;
+        // After a failed try, the next one waits a little (a lock) or a second
+        // (any other error), so a lasting fault neither spins nor floods the log.
+        if (due && (stop || Clock::now() >= retry_at)) {
+            const Outcome outcome = commit();
+            if (outcome != Outcome::committed)
+                retry_at = Clock::now() + (outcome == Outcome::locked ? retry_pause : std::chrono::milliseconds(1000));
+        }
+        if (stop) {
+            if (locked_since_) give_up_at_stop();
+            return;
+        }
     }
 }
 
@@ -86,19 +114,24 @@ void Recorder::Writer::handle(Message& m) {
         if (buf.chunk.bytes.size() >= options_.raw_chunk_bytes) write_raw(buf);
     } else if (auto* event = std::get_if<Event>(&m.payload)) {
         if (!run_) return;
-        begin_if_needed();
-        check(store_.add_event(*run_, *event), "event");
+        queue(EventWrite{*run_, *event}, sizeof(Event) + event->label.size());
     } else if (auto* alarm_rec = std::get_if<AlarmRecord>(&m.payload)) {
-        begin_if_needed();
-        check(store_.add_alarm(*alarm_rec), "alarm");
+        const std::size_t size = 64 + alarm_rec->kind.size() + alarm_rec->message.size();
+        queue(std::move(*alarm_rec), size);
     } else if (auto* counter = std::get_if<CounterRecord>(&m.payload)) {
-        begin_if_needed();
-        check(store_.add_counter(*counter), "counter");
+        const std::size_t size = 64 + counter->source.size() + counter->name.size();
+        queue(std::move(*counter), size);
+    } else if (auto* state = std::get_if<StateWrite>(&m.payload)) {
+        const std::size_t size = 64 + state->cause.size();
+        queue(std::move(*state), size);
+        commit_now_ = true;
+    } else if (auto* finish = std::get_if<FinishRun>(&m.payload)) {
+        const std::size_t size = 64 + finish->cause.size() + (finish->results_json ? finish->results_json->size() : 0);
+        queue(std::move(*finish), size);
+        commit_now_ = true;
     } else if (auto* flush = std::get_if<FlushRequest>(&m.payload)) {
-        const std::uint64_t errors_before = write_errors.load();
-        commit();
-        if (write_errors.load() == errors_before) flush->done->set_value(Done{});
-        else flush->done->set_value(Error{"recorder: write errors since the last commit (see the log)"});
+        flushes_.push_back(flush->done);
+        commit_now_ = true;
     }
 }
 
@@ -121,8 +154,8 @@ void Recorder::Writer::take_frames(std::span<const Frame> frames) {
     uncommitted_frames_ += frames.size();
 }
 
-void Recorder::Writer::write_tail_chunk() {
-    if (!run_ || !chunk_dirty_ || chunk_.empty()) return;
+std::optional<FrameChunkRow> Recorder::Writer::tail_row() const {
+    if (!run_ || chunk_.empty()) return std::nullopt;
     FrameChunkRow row;
     row.run_id = *run_;
     row.seq = chunk_seq_;
@@ -134,14 +167,16 @@ void Recorder::Writer::write_tail_chunk() {
         if (!row.last_time_s || f.time_s > *row.last_time_s) row.last_time_s = f.time_s;
     }
     row.data = encode_frames(chunk_);
-    begin_if_needed();
-    check(store_.write_frame_chunk(row), "frame chunk");
-    chunk_dirty_ = false;
+    return row;
 }
 
 void Recorder::Writer::close_chunk() {
     if (chunk_.empty()) return;
-    write_tail_chunk();
+    if (auto row = tail_row()) {
+        const std::size_t size = row->data.size() + 64;
+        queue(std::move(*row), size);
+    }
+    chunk_dirty_ = false;
     ++chunk_seq_;
     chunk_.clear();
 }
@@ -156,11 +191,10 @@ void Recorder::Writer::write_raw(RawBuffer& buf) {
         }
     }
     buf.chunk.seq = it->second++;
-    begin_if_needed();
-    check(store_.write_raw_chunk(*run_, buf.chunk, buf.first_s, buf.last_s), "raw chunk");
-    raw_bytes_written.fetch_add(buf.chunk.bytes.size(), std::memory_order_relaxed);
-    buf.chunk.bytes.clear();
-    buf.chunk.arrivals.clear();
+    const std::size_t size = buf.chunk.bytes.size() + 16 * buf.chunk.arrivals.size() + 64;
+    queue(RawWrite{*run_, std::move(buf.chunk), buf.first_s, buf.last_s}, size);
+    buf.chunk = RawChunk{};
+    buf.chunk.source = it->first;
     buf.first_s.reset();
     buf.last_s.reset();
 }
@@ -173,22 +207,146 @@ void Recorder::Writer::close_run() {
     run_.reset();
 }
 
-void Recorder::Writer::commit() {
-    write_tail_chunk();
+void Recorder::Writer::queue(Write w, std::size_t bytes) {
+    backlog_.push_back(std::move(w));
+    backlog_size_ += bytes;
+    backlog_bytes.store(backlog_size_, std::memory_order_relaxed);
+}
+
+Status Recorder::Writer::apply(const Write& w) {
+    if (const auto* row = std::get_if<FrameChunkRow>(&w)) return store_.write_frame_chunk(*row);
+    if (const auto* raw = std::get_if<RawWrite>(&w)) return store_.write_raw_chunk(raw->run, raw->chunk, raw->first_s, raw->last_s);
+    if (const auto* e = std::get_if<EventWrite>(&w)) return store_.add_event(e->run, e->event);
+    if (const auto* a = std::get_if<AlarmRecord>(&w)) return store_.add_alarm(*a);
+    if (const auto* c = std::get_if<CounterRecord>(&w)) return store_.add_counter(*c);
+    if (const auto* s = std::get_if<StateWrite>(&w)) return store_.write_state(s->run, s->state, s->cause, s->unix_s);
+    const auto& f = std::get<FinishRun>(w);
+    if (f.results_json)
+        if (auto s = store_.set_results_json(f.run, *f.results_json); !s) return s;
+    return store_.write_finish(f.run, f.state, f.cause, f.unix_s);
+}
+
+// Writes the backlog and the open chunk in one transaction. Locked: rolled
+// back, everything kept for the next try.
+Recorder::Writer::Outcome Recorder::Writer::commit() {
     for (auto& [source, buf] : raw_) write_raw(buf);
     report_drops();
-    if (in_transaction_) {
-        in_transaction_ = false;
-        if (auto s = store_.db().exec("COMMIT"); !s) {
-            (void)store_.db().exec("ROLLBACK");
-            check(s, "commit");
-        } else {
-            commits.fetch_add(1, std::memory_order_relaxed);
-            frames_committed.fetch_add(uncommitted_frames_, std::memory_order_relaxed);
-        }
-    }
-    uncommitted_frames_ = 0;
     next_commit_ = Clock::now() + options_.commit_interval;
+    const auto tail = chunk_dirty_ ? tail_row() : std::nullopt;
+    if (backlog_.empty() && !tail && !locked_since_) {
+        commit_now_ = false;
+        settle_waiters(Done{});
+        return Outcome::committed;
+    }
+    auto& db = store_.db();
+    if (auto s = db.exec("BEGIN IMMEDIATE"); !s) {
+        if (db.last_was_busy()) { locked(s.error()); return Outcome::locked; }
+        write_errors.fetch_add(1, std::memory_order_relaxed);
+        if (options_.log) options_.log->error("recorder: cannot begin a transaction: {}", s.error());
+        return Outcome::failed;  // the backlog stays; the next commit tries again
+    }
+    const std::uint64_t errors_before = write_errors.load();
+    std::vector<std::pair<std::shared_ptr<std::promise<Status>>, Status>> finished;
+    auto write = [&](const Write& w, const char* what) -> bool {
+        Status s = apply(w);
+        if (const auto* f = std::get_if<FinishRun>(&w)) finished.emplace_back(f->done, s);
+        if (s) return true;
+        if (db.last_was_busy()) {
+            (void)db.exec("ROLLBACK");
+            locked(s.error());
+            return false;
+        }
+        write_errors.fetch_add(1, std::memory_order_relaxed);
+        if (options_.log) options_.log->error("recorder: writing {} failed: {}", what, s.error());
+        return true;  // this write is lost (counted, logged); the others go on
+    };
+    for (const Write& w : backlog_)
+        if (!write(w, "a backlog record")) return Outcome::locked;
+    if (tail && !write(*tail, "frame chunk")) return Outcome::locked;
+    if (auto s = db.exec("COMMIT"); !s) {
+        const bool busy = db.last_was_busy();
+        (void)db.exec("ROLLBACK");
+        if (busy) { locked(s.error()); return Outcome::locked; }
+        write_errors.fetch_add(1, std::memory_order_relaxed);
+        if (options_.log) options_.log->error("recorder: commit failed, {} records lost: {}", backlog_.size(), s.error());
+        for (auto& [done, st] : finished) done->set_value(Error{"recorder: commit failed: " + s.error()});
+        settle_waiters(Error{"recorder: commit failed: " + s.error()});
+        backlog_.clear();
+        backlog_size_ = 0;
+        backlog_bytes.store(0);
+        chunk_dirty_ = false;
+        uncommitted_frames_ = 0;
+        commit_now_ = false;
+        return Outcome::failed;
+    }
+    commits.fetch_add(1, std::memory_order_relaxed);
+    frames_committed.fetch_add(uncommitted_frames_, std::memory_order_relaxed);
+    for (const Write& w : backlog_)
+        if (const auto* raw = std::get_if<RawWrite>(&w))
+            raw_bytes_written.fetch_add(raw->chunk.bytes.size(), std::memory_order_relaxed);
+    uncommitted_frames_ = 0;
+    backlog_.clear();
+    backlog_size_ = 0;
+    backlog_bytes.store(0, std::memory_order_relaxed);
+    chunk_dirty_ = false;
+    commit_now_ = false;
+    for (auto& [done, s] : finished) done->set_value(std::move(s));
+    if (write_errors.load() == errors_before) settle_waiters(Done{});
+    else settle_waiters(Error{"recorder: write errors since the last commit (see the log)"});
+    if (locked_since_) unlocked();
+    return Outcome::committed;
+}
+
+void Recorder::Writer::settle_waiters(const Status& s) {
+    for (auto& done : flushes_) done->set_value(s);
+    flushes_.clear();
+}
+
+void Recorder::Writer::locked(const std::string& why) {
+    const auto now = Clock::now();
+    if (!locked_since_) {
+        locked_since_ = now;
+        drops_at_lock_ = inbox_.frames_dropped.load();
+        db_locked.store(true);
+        lock_episodes.fetch_add(1, std::memory_order_relaxed);
+        alarm("database_locked",
+              "the database " + options_.path + " is locked by another process (" + why +
+                  "): frames and records are held in memory (up to " + mib(options_.backlog_bytes) + " and " +
+                  std::to_string(inbox_.frame_capacity()) +
+                  " queued frames) and written when the lock is released; close the program holding it");
+    }
+    db_locked_s.store(std::chrono::duration<double>(now - *locked_since_).count());
+}
+
+void Recorder::Writer::unlocked() {
+    const double held = std::chrono::duration<double>(Clock::now() - *locked_since_).count();
+    locked_since_.reset();
+    db_locked.store(false);
+    db_locked_s.store(held);
+    const std::uint64_t dropped = inbox_.frames_dropped.load() - drops_at_lock_;
+    alarm("database_unlocked", "the database lock was released after " + seconds(held) +
+                                   "; what was held meanwhile is written" +
+                                   (dropped > 0 ? ", but " + std::to_string(dropped) +
+                                                      " frames were dropped while the queue was full"
+                                                : ", no frame lost"));
+    commit_now_ = true;  // the alarm itself goes in at once
+}
+
+// Stopping while locked: a few more tries, then say loudly what is lost.
+void Recorder::Writer::give_up_at_stop() {
+    const auto until = Clock::now() + std::chrono::seconds(2);
+    while (locked_since_ && Clock::now() < until) {
+        std::this_thread::sleep_for(retry_pause);
+        (void)commit();
+    }
+    if (!locked_since_) return;
+    write_errors.fetch_add(1, std::memory_order_relaxed);
+    const std::string what = std::to_string(uncommitted_frames_) + " frames and " + std::to_string(backlog_.size()) +
+                             " records not stored: the database stayed locked by another process until shutdown";
+    if (options_.log) options_.log->error("recorder: {}", what);
+    for (auto& w : backlog_)
+        if (auto* f = std::get_if<FinishRun>(&w)) f->done->set_value(Error{what});
+    settle_waiters(Error{what});
 }
 
 void Recorder::Writer::check_disk(Clock::time_point now) {
@@ -203,7 +361,7 @@ void Recorder::Writer::check_disk(Clock::time_point now) {
         disk_low.store(true);
         alarm("disk_low", "free space " + mib(*free) + " is below the minimum " + mib(options_.min_free_bytes) +
                               ": recording of frames and raw bytes stopped; stored data kept");
-        commit();
+        commit_now_ = true;
     } else if (!low && disk_low.load()) {
         disk_low.store(false);
         alarm("disk_ok", "free space " + mib(*free) + " is back above the minimum " + mib(options_.min_free_bytes) +
@@ -215,7 +373,9 @@ void Recorder::Writer::report_drops() {
     const std::uint64_t frames = inbox_.frames_dropped.load();
     if (frames > reported_frame_drops_) {
         alarm("queue_full", std::to_string(frames - reported_frame_drops_) + " frames dropped: recorder inbox full (" +
-                                std::to_string(inbox_.frame_capacity()) + " frames); the disk or the writer is too slow");
+                                std::to_string(inbox_.frame_capacity()) + " frames)" +
+                                (locked_since_ ? "; the database is locked by another process"
+                                               : "; the disk or the writer is too slow"));
         reported_frame_drops_ = frames;
     }
     const std::uint64_t messages = inbox_.messages_dropped.load();
@@ -228,22 +388,9 @@ void Recorder::Writer::report_drops() {
 
 void Recorder::Writer::alarm(std::string kind, std::string message) {
     if (options_.log) options_.log->warn("recorder alarm {}: {}", kind, message);
-    begin_if_needed();
-    check(store_.add_alarm(AlarmRecord{run_, wall_now(), std::move(kind), std::move(message)}), "alarm");
-}
-
-void Recorder::Writer::check(const Status& s, const char* what) {
-    if (s) return;
-    write_errors.fetch_add(1, std::memory_order_relaxed);
-    if (options_.log) options_.log->error("recorder: writing {} failed: {}", what, s.error());
-}
-
-bool Recorder::Writer::begin_if_needed() {
-    if (in_transaction_) return true;
-    auto s = store_.db().exec("BEGIN IMMEDIATE");
-    check(s, "begin");
-    in_transaction_ = s.ok();
-    return in_transaction_;
+    if (options_.notify) options_.notify(kind, message);
+    const std::size_t size = 64 + kind.size() + message.size();
+    queue(AlarmRecord{run_, wall_now(), std::move(kind), std::move(message)}, size);
 }
 
 double Recorder::Writer::wall_now() const {

@@ -1,14 +1,23 @@
 // The recorder's writer thread (internal to the recorder). Owns its own Store
-// connection; takes everything from the inbox, writes it inside one open
-// transaction, and commits on the commit interval, on flush and at stop.
-// Error policy: a failed write is logged and counted, the transaction rolled
-// back at the commit, and the writer goes on with the next data.
+// connection; takes everything from the inbox into a backlog of writes in
+// memory, and on the commit interval (sooner for state changes, flushes and
+// run ends, and at stop) writes the backlog and the open chunk in one
+// transaction.
+//
+// Error policy: the backlog is cleared only by a commit that succeeded. Another
+// process's lock (SQLITE_BUSY / SQLITE_LOCKED) rolls the transaction back and
+// keeps the whole backlog for the next try, with an alarm; memory stays
+// bounded by `backlog_bytes` plus the inbox. Any other failed write is logged
+// and counted (write_errors), and the writer goes on with the next data.
 #pragma once
 
 #include <atomic>
 #include <chrono>
+#include <future>
 #include <map>
 #include <optional>
+#include <variant>
+#include <vector>
 
 #include "recorder.hpp"
 #include "store.hpp"
@@ -19,12 +28,14 @@ class Recorder::Writer {
 public:
     Writer(Store store, const RecorderOptions& options, RecorderInbox& inbox, std::atomic<std::uint64_t>& raw_in_flight,
            const std::atomic<bool>& stopping);
-    void run();  // the thread body; returns after stop with everything committed
+    void run();  // the thread body; returns after stop with everything committed (or reported lost)
 
     // Read from other threads.
     std::atomic<std::uint64_t> frames_written{0}, frames_committed{0}, frames_refused_disk{0}, frames_without_run{0},
-        raw_bytes_written{0}, raw_bytes_refused{0}, commits{0}, write_errors{0};
-    std::atomic<bool> disk_low{false};
+        raw_bytes_written{0}, raw_bytes_refused{0}, commits{0}, write_errors{0}, lock_episodes{0};
+    std::atomic<bool> disk_low{false}, db_locked{false};
+    std::atomic<double> db_locked_s{0};
+    std::atomic<std::size_t> backlog_bytes{0};
 
 private:
     using Clock = std::chrono::steady_clock;
@@ -32,19 +43,28 @@ private:
         RawChunk chunk;
         std::optional<double> first_s, last_s;
     };
+    // Writes waiting for the next commit, in the order they were pushed.
+    struct RawWrite { std::int64_t run; RawChunk chunk; std::optional<double> first_s, last_s; };
+    struct EventWrite { std::int64_t run; Event event; };
+    using Write = std::variant<FrameChunkRow, RawWrite, EventWrite, AlarmRecord, CounterRecord, StateWrite, FinishRun>;
+    enum class Outcome { committed, locked, failed };
 
     void handle(Message& m);
     void take_frames(std::span<const Frame> frames);
-    void close_chunk();        // writes the chunk buffer and starts a new chunk
-    void write_tail_chunk();   // writes the partial chunk, keeping it open
-    void write_raw(RawBuffer& buffer);
+    void close_chunk();                // moves the open chunk to the backlog and starts a new one
+    std::optional<FrameChunkRow> tail_row() const;  // the open, partial chunk as a row
+    void write_raw(RawBuffer& buffer);  // moves a raw buffer to the backlog
     void close_run();
-    void commit();
+    void queue(Write w, std::size_t bytes);
+    Outcome commit();
+    Status apply(const Write& w);
+    void locked(const std::string& why);
+    void unlocked();
+    void settle_waiters(const Status& s);
+    void give_up_at_stop();
     void check_disk(Clock::time_point now);
     void report_drops();
     void alarm(std::string kind, std::string message);
-    void check(const Status& s, const char* what);
-    bool begin_if_needed();
     double wall_now() const;
 
     Store store_;
@@ -53,8 +73,12 @@ private:
     std::atomic<std::uint64_t>& raw_in_flight_;
     const std::atomic<bool>& stopping_;
 
-    bool in_transaction_ = false;
-    bool transaction_failed_ = false;
+    std::vector<Write> backlog_;
+    std::size_t backlog_size_ = 0;   // bytes held by backlog_
+    std::vector<std::shared_ptr<std::promise<Status>>> flushes_;  // settled by the next commit
+    bool commit_now_ = false;        // a state change, flush or run end is waiting
+    std::optional<Clock::time_point> locked_since_;
+    std::uint64_t drops_at_lock_ = 0;
     std::optional<std::int64_t> run_;
     std::vector<Frame> chunk_;
     std::int64_t chunk_seq_ = 0;
@@ -64,7 +88,7 @@ private:
     std::map<std::string, RawBuffer> raw_;
     std::map<std::string, std::int64_t> raw_seq_;
     std::uint64_t uncommitted_frames_ = 0;
-    std::uint64_t reported_frame_drops_ = 0, reported_message_drops_ = 0, reported_refused_ = 0;
+    std::uint64_t reported_frame_drops_ = 0, reported_message_drops_ = 0;
     Clock::time_point next_commit_;
     Clock::time_point next_disk_check_;
 };

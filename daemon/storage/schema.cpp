@@ -117,17 +117,28 @@ CREATE INDEX verifications_by_run ON verifications(run_id);
 
 // Creates the file owner-only before SQLite sees it; SQLite then gives its
 // -wal and -shm files the same mode. A file found with wider rights is narrowed.
+//
+// An existing file is never opened here: POSIX drops every lock a process
+// holds on a file when it closes *any* descriptor of that file, so an open and
+// close beside a live connection of this process (the recorder and the monitor
+// open theirs after the control connection) silently released that
+// connection's locks. Another program's sqlite3 session then believed it was
+// the last user, deleted the WAL and shm files on closing, and the next lock
+// it took no longer excluded tensiled's writer. Path-based calls only, and an
+// open only to create a file that did not exist, on which nobody holds locks.
 Status prepare_file(const std::string& path, bool create) {
-    const int fd = ::open(path.c_str(), O_RDWR | O_CLOEXEC | (create ? O_CREAT : 0), 0600);
-    if (fd < 0) return Error{"cannot open database " + path + ": " + std::strerror(errno)};
     struct stat st {};
-    Status status = Done{};
-    if (::fstat(fd, &st) != 0)
-        status = Error{"cannot stat database " + path + ": " + std::strerror(errno)};
-    else if ((st.st_mode & 0077) != 0 && ::fchmod(fd, 0600) != 0)
-        status = Error{"cannot make database " + path + " owner-only: " + std::strerror(errno)};
-    ::close(fd);
-    return status;
+    if (::stat(path.c_str(), &st) == 0) {
+        if ((st.st_mode & 0077) != 0 && ::chmod(path.c_str(), 0600) != 0)
+            return Error{"cannot make database " + path + " owner-only: " + std::strerror(errno)};
+        return Done{};
+    }
+    if (errno != ENOENT) return Error{"cannot stat database " + path + ": " + std::strerror(errno)};
+    if (!create) return Error{"cannot open database " + path + ": " + std::strerror(ENOENT)};
+    const int fd = ::open(path.c_str(), O_RDWR | O_CLOEXEC | O_CREAT | O_EXCL, 0600);
+    if (fd < 0 && errno != EEXIST) return Error{"cannot create database " + path + ": " + std::strerror(errno)};
+    if (fd >= 0) ::close(fd);
+    return Done{};
 }
 
 }  // namespace

@@ -114,5 +114,10 @@ Result<Stmt> Db::prepare(std::string_view sql) {
 std::int64_t Db::last_insert_id() const { return sqlite3_last_insert_rowid(db_); }
 std::int64_t Db::changes() const { return sqlite3_changes64(db_); }
 std::string Db::message() const { return sqlite3_errmsg(db_); }
+bool Db::last_was_busy() const {
+    const int rc = sqlite3_errcode(db_) & 0xff;
+    return rc == SQLITE_BUSY || rc == SQLITE_LOCKED;
+}
+void Db::set_busy_timeout(int ms) { sqlite3_busy_timeout(db_, ms); }
 
 }  // namespace tensile::storage

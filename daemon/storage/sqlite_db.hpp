@@ -81,6 +81,10 @@ public:
     [[nodiscard]] std::int64_t last_insert_id() const;
     [[nodiscard]] std::int64_t changes() const;  // rows changed by the last statement
     [[nodiscard]] std::string message() const;
+    // The last failure was another connection's lock (SQLITE_BUSY / SQLITE_LOCKED
+    // after the busy timeout): worth trying again later, unlike other errors.
+    [[nodiscard]] bool last_was_busy() const;
+    void set_busy_timeout(int ms);
     [[nodiscard]] sqlite3* handle() const { return db_; }
 
 private:

@@ -77,20 +77,23 @@ Result<std::int64_t> Store::create_run(const NewRun& run) {
 
 Status Store::set_state(std::int64_t run, RunState state, const std::string& cause, double unix_s) {
     if (is_closed(state)) return finish_run(run, state, cause, unix_s);
-    return in_transaction(db_, [&]() -> Status {
-        auto stmt = db_.prepare(
-            "UPDATE runs SET state = ?1, state_cause = ?2, "
-            "started_unix_s = CASE WHEN ?1 = 'running' AND started_unix_s IS NULL THEN ?3 ELSE started_unix_s END "
-            "WHERE id = ?4 AND state IN ('armed', 'running')");
-        if (!stmt) return Error{stmt.error()};
-        stmt->bind(1, name_of(state)).bind(2, cause).bind(3, unix_s).bind(4, run);
-        if (auto s = stmt->run(); !s) return s;
-        if (db_.changes() != 1) return Error{"run " + std::to_string(run) + " does not exist or is already closed"};
-        auto change = cached(insert_state, "INSERT INTO state_changes (run_id, state, cause, unix_s) VALUES (?, ?, ?, ?)");
-        if (!change) return Error{change.error()};
-        (*change)->bind(1, run).bind(2, name_of(state)).bind(3, cause).bind(4, unix_s);
-        return (*change)->run();
-    });
+    return in_transaction(db_, [&]() -> Status { return write_state(run, state, cause, unix_s); });
+}
+
+Status Store::write_state(std::int64_t run, RunState state, const std::string& cause, double unix_s) {
+    if (is_closed(state)) return write_finish(run, state, cause, unix_s);
+    auto stmt = db_.prepare(
+        "UPDATE runs SET state = ?1, state_cause = ?2, "
+        "started_unix_s = CASE WHEN ?1 = 'running' AND started_unix_s IS NULL THEN ?3 ELSE started_unix_s END "
+        "WHERE id = ?4 AND state IN ('armed', 'running')");
+    if (!stmt) return Error{stmt.error()};
+    stmt->bind(1, name_of(state)).bind(2, cause).bind(3, unix_s).bind(4, run);
+    if (auto s = stmt->run(); !s) return s;
+    if (db_.changes() != 1) return Error{"run " + std::to_string(run) + " does not exist or is already closed"};
+    auto change = cached(insert_state, "INSERT INTO state_changes (run_id, state, cause, unix_s) VALUES (?, ?, ?, ?)");
+    if (!change) return Error{change.error()};
+    (*change)->bind(1, run).bind(2, name_of(state)).bind(3, cause).bind(4, unix_s);
+    return (*change)->run();
 }
 
 Status Store::set_results(std::int64_t run, const Results& results) {
@@ -108,22 +111,25 @@ Status Store::set_results_json(std::int64_t run, const std::string& json_text) {
 
 Status Store::finish_run(std::int64_t run, RunState state, const std::string& cause, double unix_s) {
     if (is_live(state)) return Error{std::string("finish_run needs a closed state, not ") + name_of(state)};
-    return in_transaction(db_, [&]() -> Status {
-        // Inside the write transaction nobody can add data between digest and close.
-        auto digest = compute_digest(run);
-        if (!digest) return Error{digest.error()};
-        auto stmt = db_.prepare(
-            "UPDATE runs SET state = ?, state_cause = ?, finished_unix_s = ?, digest_sha256 = ? "
-            "WHERE id = ? AND state IN ('armed', 'running')");
-        if (!stmt) return Error{stmt.error()};
-        stmt->bind(1, name_of(state)).bind(2, cause).bind(3, unix_s).bind(4, *digest).bind(5, run);
-        if (auto s = stmt->run(); !s) return s;
-        if (db_.changes() != 1) return Error{"run " + std::to_string(run) + " does not exist or is already closed"};
-        auto change = cached(insert_state, "INSERT INTO state_changes (run_id, state, cause, unix_s) VALUES (?, ?, ?, ?)");
-        if (!change) return Error{change.error()};
-        (*change)->bind(1, run).bind(2, name_of(state)).bind(3, cause).bind(4, unix_s);
-        return (*change)->run();
-    });
+    return in_transaction(db_, [&]() -> Status { return write_finish(run, state, cause, unix_s); });
+}
+
+Status Store::write_finish(std::int64_t run, RunState state, const std::string& cause, double unix_s) {
+    if (is_live(state)) return Error{std::string("finish_run needs a closed state, not ") + name_of(state)};
+    // Inside the write transaction nobody can add data between digest and close.
+    auto digest = compute_digest(run);
+    if (!digest) return Error{digest.error()};
+    auto stmt = db_.prepare(
+        "UPDATE runs SET state = ?, state_cause = ?, finished_unix_s = ?, digest_sha256 = ? "
+        "WHERE id = ? AND state IN ('armed', 'running')");
+    if (!stmt) return Error{stmt.error()};
+    stmt->bind(1, name_of(state)).bind(2, cause).bind(3, unix_s).bind(4, *digest).bind(5, run);
+    if (auto s = stmt->run(); !s) return s;
+    if (db_.changes() != 1) return Error{"run " + std::to_string(run) + " does not exist or is already closed"};
+    auto change = cached(insert_state, "INSERT INTO state_changes (run_id, state, cause, unix_s) VALUES (?, ?, ?, ?)");
+    if (!change) return Error{change.error()};
+    (*change)->bind(1, run).bind(2, name_of(state)).bind(3, cause).bind(4, unix_s);
+    return (*change)->run();
 }
 
 Result<int> Store::recover_interrupted_runs(double unix_s) {

@@ -50,6 +50,9 @@ public:
     Result<int> recover_interrupted_runs(double unix_s);
 
     // --- writes (the recorder calls these inside its own transactions) ------
+    // set_state / finish_run without their own transaction.
+    Status write_state(std::int64_t run, RunState state, const std::string& cause, double unix_s);
+    Status write_finish(std::int64_t run, RunState state, const std::string& cause, double unix_s);
     Status write_frame_chunk(const FrameChunkRow& row);  // insert or replace (run, seq)
     Status write_raw_chunk(std::int64_t run, const RawChunk& chunk, std::optional<double> first_s, std::optional<double> last_s);
     Status add_event(std::int64_t run, const Event& event);

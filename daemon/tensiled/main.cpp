@@ -12,6 +12,7 @@
 // stay in charge.
 #include <CLI/CLI.hpp>
 #include <boost/asio/io_context.hpp>
+#include <boost/asio/post.hpp>
 #include <boost/asio/ip/tcp.hpp>
 #include <boost/asio/signal_set.hpp>
 #include <algorithm>
@@ -59,7 +60,16 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     log->info("tensiled {} starting; rig '{}', data in {}", TENSILED_VERSION, config.rig.name, config.data_dir.string());
     log->warn("tensiled is no interlock: the frame's own limits, guards and emergency stop stay in charge");
     boost::asio::io_context io;
-    tensile::RunKeeper keeper(config.data_dir / "tensiled.db", config.min_free_mb, log);
+    // The recorder's alarms (database locked...) come from its writer thread;
+    // they reach the live feed on the io_context thread once it is set below.
+    std::function<void(const std::string&, const std::string&)> storage_alarm;
+    tensile::RunKeeper keeper(
+        config.data_dir / "tensiled.db", config.min_free_mb, log,
+        [&io, &storage_alarm](const std::string& kind, const std::string& message) {
+            boost::asio::post(io, [&storage_alarm, kind, message] {
+                if (storage_alarm) storage_alarm(kind, message);
+            });
+        });
     tensile::RigService rig(io, config, log);
     std::unique_ptr<tensile::DemoRig> demo_rig;
     if (demo) {
@@ -91,11 +101,14 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     auto& monitor = *monitor_server;
     auto& feed = monitor.feed();
     tensile::RigObservers observers;
-    observers.on_armed = [&](const tensile::RunInfo& run) {
-        keeper.armed(run, rig.config().profiles.at(run.profile), rig.config().text);
+    observers.may_arm = [&] { return keeper.writable(); };
+    observers.on_armed = [&](const tensile::RunInfo& run) -> tensile::Result<bool> {
+        if (auto kept = keeper.armed(run, rig.config().profiles.at(run.profile), rig.config().text); !kept) return kept;
         keeper.sources_at_arming(rig.acquisition().status());
         feed.armed(run, keeper.current_run());
+        return true;
     };
+    storage_alarm = [&](const std::string& kind, const std::string& message) { feed.alarm(kind, message); };
     observers.on_step = [&](const tensile::RunInfo& run, const tensile::RunOutput& out) {
         for (const auto& t : out.transitions)
             if (t.to == tensile::RunState::running) keeper.started(rig.controller());

@@ -82,6 +82,12 @@ Result<bool> RigService::arm(const Specimen& specimen, const std::string& profil
     const std::string name = profile.empty() ? config_.default_profile : profile;
     const auto found = config_.profiles.find(name);
     if (found == config_.profiles.end()) return Error{"no profile '" + name + "'; expected one of the config's profiles"};
+    // A run that could not be kept is not started: storage is asked first.
+    if (!live(controller_.state()) && observers_.may_arm)
+        if (auto ready = observers_.may_arm(); !ready) {
+            log_->error("arming refused: {}", ready.error());
+            return Error{"arming refused: " + ready.error()};
+        }
     step_.clear();
     const double now = now_s();
     auto armed = controller_.arm(*geometry, found->second, now, step_);
@@ -90,7 +96,18 @@ Result<bool> RigService::arm(const Specimen& specimen, const std::string& profil
     run_ = RunInfo{++runs_, specimen, *geometry, name, now};
     log_->info("run {} armed: {} (S0 {:.3f} mm², L0 {:.2f} mm), profile {}", run_->number, specimen.label,
                geometry->S0_mm2, geometry->L0_mm, name);
-    if (observers_.on_armed) observers_.on_armed(*run_);
+    if (observers_.on_armed) {
+        if (auto kept = observers_.on_armed(*run_); !kept) {
+            // The lock came between the check and the insert: take the arming
+            // back before anyone sees it, so no run goes on unrecorded.
+            RunOutput scratch;
+            (void)controller_.abort(now, "not stored: " + kept.error(), scratch);
+            log_->error("run {} taken back: {}", run_->number, kept.error());
+            run_.reset();
+            step_.clear();
+            return Error{"arming refused: " + kept.error()};
+        }
+    }
     after_step();
     return true;
 }

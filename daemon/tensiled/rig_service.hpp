@@ -37,7 +37,10 @@ struct RunInfo {
 
 // Observers of the rig; any may be empty.
 struct RigObservers {
-    std::function<void(const RunInfo&)> on_armed;
+    // Asked before arming (storage ready?); an error refuses the arm with its message.
+    std::function<Result<bool>()> may_arm;
+    // An error here (the run cannot be stored) takes the arming back.
+    std::function<Result<bool>(const RunInfo&)> on_armed;
     std::function<void(const RunInfo&, const RunOutput&)> on_step;     // frames, events, transitions, requests
     std::function<void(const RunInfo&, RunState end, const Results&)> on_run_end;
     std::function<void(const std::string& source, std::span<const std::byte>, double arrival_s)> on_raw;

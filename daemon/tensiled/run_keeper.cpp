@@ -4,6 +4,7 @@
 #include <chrono>
 #include <stdexcept>
 
+#include "daemon/offline/results_json.hpp"
 #include "daemon/offline/specimen_json.hpp"
 
 namespace tensile {
@@ -27,18 +28,43 @@ storage::RunState stored(RunState s) {
 }
 }  // namespace
 
-RunKeeper::RunKeeper(const std::filesystem::path& database, double min_free_mb, std::shared_ptr<spdlog::logger> log)
+namespace {
+// The control thread's waits for the write lock: short, so a lock held by
+// another process refuses an arm quickly instead of freezing the monitor.
+constexpr int control_lock_wait_ms = 300;
+// The recorder's wait per try; it tries again until the lock goes.
+constexpr int recorder_lock_wait_ms = 250;
+// How long the end of a run waits for its close to be committed.
+constexpr auto close_wait = std::chrono::seconds(2);
+
+std::string locked_message(const std::filesystem::path& db, const std::string& why) {
+    return "the database " + db.string() + " cannot be written: " + why +
+           " (another process holds its write lock, e.g. an open sqlite3 session or a backup); "
+           "no run is armed until it can be written; close that program and arm again";
+}
+}  // namespace
+
+RunKeeper::RunKeeper(const std::filesystem::path& database, double min_free_mb, std::shared_ptr<spdlog::logger> log,
+                     Notify notify, std::size_t backlog_mb)
     : path_(database), log_(std::move(log)) {
     std::error_code ec;
     std::filesystem::create_directories(path_.parent_path(), ec);
     auto store = storage::Store::open(path_.string());
     if (!store) throw std::runtime_error("cannot open the database " + path_.string() + ": " + store.error());
     store_.emplace(std::move(*store));
-    if (auto recovered = store_->recover_interrupted_runs(unix_now_s()); recovered && *recovered > 0)
+    if (auto recovered = store_->recover_interrupted_runs(unix_now_s()); !recovered)
+        log_->error("runs left open by a daemon that stopped could not be closed as interrupted: {}; "
+                    "they will be at the next start", recovered.error());
+    else if (*recovered > 0)
         log_->warn("{} run(s) left open by a daemon that stopped were closed as interrupted", *recovered);
+    store_->db().set_busy_timeout(control_lock_wait_ms);
     storage::RecorderOptions options;
     options.path = path_.string();
     options.min_free_bytes = static_cast<std::uint64_t>(min_free_mb * 1024 * 1024);
+    options.open.busy_timeout_ms = recorder_lock_wait_ms;
+    options.backlog_bytes = backlog_mb << 20;
+    options.log = log_;
+    options.notify = std::move(notify);
     auto recorder = storage::Recorder::start(options);
     if (!recorder) throw std::runtime_error("cannot start the recorder on " + path_.string() + ": " + recorder.error());
     recorder_ = std::move(*recorder);
@@ -51,7 +77,16 @@ void RunKeeper::stop() {
     if (recorder_) recorder_->stop();
 }
 
-void RunKeeper::armed(const RunInfo& run, const RunSettings& settings, const std::string& config_text) {
+Result<bool> RunKeeper::writable() {
+    auto& db = store_->db();
+    if (auto s = db.exec("BEGIN IMMEDIATE"); !s) return Error{locked_message(path_, s.error())};
+    (void)db.exec("ROLLBACK");
+    if (const auto c = recorder_->counters(); c.db_locked)
+        return Error{locked_message(path_, "the recorder is still waiting for the lock")};
+    return true;
+}
+
+Result<bool> RunKeeper::armed(const RunInfo& run, const RunSettings& settings, const std::string& config_text) {
     storage::NewRun n;
     auto specimen = to_json(run.specimen);
     specimen["S0_mm2"] = run.geometry.S0_mm2;
@@ -68,11 +103,13 @@ void RunKeeper::armed(const RunInfo& run, const RunSettings& settings, const std
     if (!id) {
         log_->error("cannot store run {}: {}", run.number, id.error());
         run_id_.reset();
-        return;
+        return Error{locked_message(path_, id.error())};
     }
     run_id_ = *id;
+    dropped_at_arming_ = recorder_->counters().frames_dropped;
     recorder_->begin_run(*id);
     log_->info("run {} is stored as run id {}", run.number, *id);
+    return true;
 }
 
 void RunKeeper::step(const RunInfo&, const RunOutput& out) {
@@ -81,8 +118,8 @@ void RunKeeper::step(const RunInfo&, const RunOutput& out) {
     for (const auto& e : out.events) recorder_->try_push_event(e);
     for (const auto& t : out.transitions) {
         if (!live(t.to)) continue;  // the end is filed by ended()
-        if (auto s = store_->set_state(*run_id_, stored(t.to), t.cause, unix_now_s()); !s)
-            log_->error("cannot store the state of run {}: {}", *run_id_, s.error());
+        // In order with the run's data, and never waiting on a lock here.
+        recorder_->set_state(*run_id_, stored(t.to), t.cause, unix_now_s());
     }
 }
 
@@ -154,15 +191,31 @@ void RunKeeper::alarm(const std::string& kind, const std::string& message) {
 void RunKeeper::ended(const RunInfo& run, RunState end, const Results& results) {
     if (!run_id_) return;
     const auto id = *run_id_;
-    // Everything the recorder holds goes in before the digest is taken.
-    recorder_->end_run();
-    recorder_->flush();
     run_id_.reset();
-    if (auto s = store_->set_results(id, results); !s) log_->error("cannot store the results of run {}: {}", id, s.error());
-    if (auto s = store_->finish_run(id, stored(end), "run " + std::string(name_of(end)), unix_now_s()); !s)
+    // Frames the recorder had to drop (its queue full, e.g. through a long
+    // lock) leave a gap in the stored curve: the stored run says so.
+    auto state = stored(end);
+    std::string cause = "run " + std::string(name_of(end));
+    const std::uint64_t dropped = recorder_->counters().frames_dropped - dropped_at_arming_;
+    if (dropped > 0) {
+        state = storage::RunState::faulted;
+        cause = std::to_string(dropped) + " frames of this run could not be stored (recorder queue full: database " +
+                "locked or too slow); the stored curve has gaps; the run itself ended " + name_of(end);
+        log_->error("run {} (id {}): {}", run.number, id, cause);
+    }
+    // Everything the recorder holds goes in before the digest is taken, in
+    // the recorder's own transaction; through a lock it finishes later.
+    recorder_->end_run();
+    auto done = recorder_->finish_run(id, state, cause, unix_now_s(), to_json(results).dump());
+    if (done.wait_for(close_wait) != std::future_status::ready) {
+        log_->warn("run {} (id {}) ended {}; the database is locked, so it will be stored as soon as the lock is "
+                   "released", run.number, id, name_of(state));
+        return;
+    }
+    if (auto s = done.get(); !s)
         log_->error("cannot close run {}: {}", id, s.error());
     else
-        log_->info("run {} (id {}) stored: {}", run.number, id, name_of(end));
+        log_->info("run {} (id {}) stored: {}", run.number, id, name_of(state));
 }
 
 }  // namespace tensile

@@ -6,11 +6,17 @@
 // and at the end the results, final state and digest.
 //
 // Error policy: opening is start-up (throws std::runtime_error with the
-// file). Afterwards a failed write is logged and raised as an alarm, and the
-// rig keeps running: losing the monitor is better than stopping a test.
+// file). Arming is refused (writable(), armed() return an error naming the
+// file) while the database cannot be written, so no run starts unrecorded.
+// During a run, writes go through the recorder, which holds them through a
+// lock taken by another process and raises alarms (notify); a run that lost
+// frames that way is closed as faulted, saying how many. Nothing here blocks
+// the control thread for long: the close waits at most `close_wait` and is
+// otherwise finished by the recorder when the lock goes.
 #pragma once
 
 #include <cstdint>
+#include <functional>
 #include <filesystem>
 #include <memory>
 #include <optional>
@@ -26,10 +32,17 @@ namespace tensile {
 
 class RunKeeper {
 public:
-    RunKeeper(const std::filesystem::path& database, double min_free_mb, std::shared_ptr<spdlog::logger> log);
+    using Notify = std::function<void(const std::string& kind, const std::string& message)>;
+    // `notify` hears the recorder's alarms (database locked...) on the writer
+    // thread; pass it on to the control thread.
+    RunKeeper(const std::filesystem::path& database, double min_free_mb, std::shared_ptr<spdlog::logger> log,
+              Notify notify = {}, std::size_t backlog_mb = 32);
     ~RunKeeper();
 
-    void armed(const RunInfo& run, const RunSettings& settings, const std::string& config_text);
+    // Whether a new run could be stored now: the write lock is free (waits
+    // briefly for it). The error names the file and what holds it.
+    Result<bool> writable();
+    Result<bool> armed(const RunInfo& run, const RunSettings& settings, const std::string& config_text);
     void step(const RunInfo& run, const RunOutput& out);
     // The run started: its arming time (host monotonic) and tare, which
     // verification needs to rebuild the frames from the raw bytes.
@@ -56,6 +69,7 @@ private:
     std::unique_ptr<storage::Recorder> recorder_;
     std::optional<std::int64_t> run_id_;
     std::vector<Acquisition::SourceStatus> at_arming_;
+    std::uint64_t dropped_at_arming_ = 0;
 };
 
 // Wall-clock seconds since 1970, for stored times.
