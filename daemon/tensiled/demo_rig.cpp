@@ -14,9 +14,6 @@
 #include <sstream>
 #include <stdexcept>
 
-#include <boost/asio/read_until.hpp>
-#include <unistd.h>
-
 #include "daemon/offline/results_json.hpp"
 
 extern char** environ;
@@ -54,15 +51,10 @@ std::vector<DemoSpecimen> list_demo_specimens(const std::filesystem::path& simul
     return out;
 }
 
-std::filesystem::path demo_extensometer_port(const std::filesystem::path& data_dir) {
-    return data_dir / "extensometer-port";
-}
-
 std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_t sim_port, std::uint16_t monitor_port,
-                             double pace, bool one_link) {
+                             double pace) {
     std::ostringstream t;
-    t << "# The embedded demo rig: tensile-sim with force and crosshead on loopback TCP\n"
-      << "# (commands on the same link) and the extensometer on a pseudo-terminal.\n"
+    t << "# The embedded demo rig: tensile-sim on loopback TCP, commands on the same link.\n"
       << "[daemon]\ndata_dir = \"" << data_dir.string() << "\"\n"
       << "[monitor]\nlisten = \"127.0.0.1\"\nport = " << monitor_port << "\n"
       << "[rig]\nname = \"demo-rig\"\ncommands = \"frame\"\n"
@@ -71,24 +63,11 @@ std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_
       << "  [profile.demo.handover]\n  when = \"after-yield\"\n  hold = true\n"
       << "[source.frame]\nkind = \"tcp\"\nhost = \"127.0.0.1\"\nport = " << sim_port << "\n"
       << "retry_min_ms = 100\nretry_max_ms = 500\nformat = \"lines\"\ntime_field = 0\nclock_pace = " << pace << "\n"
-      << "  [[source.frame.channel]]\n  name = \"force\"\n  unit = \"N\"\n  field = 1\n";
-    if (one_link)
-        t << "  [[source.frame.channel]]\n  name = \"extension\"\n  unit = \"mm\"\n  field = 2\n"
-          << "  [[source.frame.channel]]\n  name = \"crosshead\"\n  unit = \"mm\"\n  field = 3\n";
-    else
-        t << "  [[source.frame.channel]]\n  name = \"crosshead\"\n  unit = \"mm\"\n  field = 2\n"
-          << "[source.extensometer]\nkind = \"serial\"\npath = \"" << demo_extensometer_port(data_dir).string()
-          << "\"\nbaud = 115200\n"
-          << "retry_min_ms = 100\nretry_max_ms = 500\nformat = \"lines\"\ntime_field = 0\nclock_pace = " << pace << "\n"
-          << "  [[source.extensometer.channel]]\n  name = \"extension\"\n  unit = \"mm\"\n  field = 1\n";
-    t << "[output.frame]\nkind = \"command\"\nsource = \"frame\"\n";
+      << "  [[source.frame.channel]]\n  name = \"force\"\n  unit = \"N\"\n  field = 1\n"
+      << "  [[source.frame.channel]]\n  name = \"extension\"\n  unit = \"mm\"\n  field = 2\n"
+      << "  [[source.frame.channel]]\n  name = \"crosshead\"\n  unit = \"mm\"\n  field = 3\n"
+      << "[output.frame]\nkind = \"command\"\nsource = \"frame\"\n";
     return t.str();
-}
-
-const drivers::SourceConfig& demo_frame_source(const DaemonConfig& config) {
-    for (const auto& s : config.drivers.sources)
-        if (s.name == "frame") return s;
-    throw std::logic_error("the demo config has no source named frame");
 }
 
 DemoRig::DemoRig(boost::asio::io_context& io, RigService& rig, std::filesystem::path simulator, std::uint16_t sim_port,
@@ -112,8 +91,6 @@ DemoRig::~DemoRig() {
         ::kill(child_, SIGTERM);
         ::waitpid(child_, nullptr, 0);
     }
-    std::error_code ignored;
-    std::filesystem::remove(demo_extensometer_port(data_dir_), ignored);  // would point at a pty long gone
 }
 
 void DemoRig::start() { play_next(); }
@@ -140,18 +117,16 @@ void DemoRig::play_next() {
 
 void DemoRig::spawn(const DemoSpecimen& s) {
     const std::string endpoint = "127.0.0.1:" + std::to_string(sim_port_);
-    const bool one_link = this->one_link();
+    const std::string speed = std::to_string(speed_);
     // The frame waits, held, until the daemon has taken its tare, as an
     // operator arms first and then starts the frame.
-    std::vector<std::string> args{simulator_.string(), "--material", s.material, "--format", "lines", "--after-end", "2",
-                                  "--at", "0:hold",
+    std::vector<std::string> args{simulator_.string(), "--material", s.material, "--tcp", endpoint, "--realtime",
+                                  "--speed", speed, "--format", "lines", "--after-end", "2", "--at", "0:hold",
                                   "--truth", (data_dir_ / ("demo-truth-" + std::to_string(next_) + ".json")).string()};
-    if (one_link) {
-        // Benchmarks: as fast as the daemon reads, at the given sample rate.
-        args.insert(args.end(), {"--tcp", endpoint, "--fast", "--rate", std::to_string(fast_rate_hz_)});
-    } else {
-        args.insert(args.end(), {"--realtime", "--speed", std::to_string(speed_), "--link",
-                                 "force,crosshead=tcp:" + endpoint, "--link", "extension@500=pty"});
+    if (fast_rate_hz_ > 0) {
+        // Replace the pacing: --fast at the given sample rate.
+        args.erase(std::find(args.begin(), args.end(), "--realtime"), std::find(args.begin(), args.end(), "--format"));
+        args.insert(args.end(), {"--fast", "--rate", std::to_string(fast_rate_hz_)});
     }
     for (const auto& f : faults_) {
         args.push_back("--fault");
@@ -160,60 +135,22 @@ void DemoRig::spawn(const DemoSpecimen& s) {
     std::vector<char*> argv;
     for (auto& a : args) argv.push_back(a.data());
     argv.push_back(nullptr);
-    // Its stdout announces the links ("pty /dev/pts/N extension"); read here.
-    int out[2];
-    if (::pipe2(out, O_CLOEXEC) != 0) {
-        log_->error("demo: cannot make a pipe for the simulator: {}", std::strerror(errno));
-        return;
-    }
     posix_spawn_file_actions_t actions;
     posix_spawn_file_actions_init(&actions);
-    posix_spawn_file_actions_adddup2(&actions, out[1], 1);
+    posix_spawn_file_actions_addopen(&actions, 1, "/dev/null", O_WRONLY, 0);  // its 'tcp HOST:PORT' line
     // Nothing else of ours goes with it: an inherited listening socket would
     // keep the monitor's port taken after the daemon is gone.
     posix_spawn_file_actions_addclosefrom_np(&actions, 3);
     pid_t pid = -1;
     const int err = posix_spawn(&pid, simulator_.c_str(), &actions, nullptr, argv.data(), environ);
     posix_spawn_file_actions_destroy(&actions);
-    ::close(out[1]);
     if (err != 0) {
-        ::close(out[0]);
         log_->error("demo: cannot start {}: {}", simulator_.string(), std::strerror(err));
         return;
     }
     child_ = pid;
-    announcements_ = std::make_unique<boost::asio::posix::stream_descriptor>(io_, out[0]);
-    announced_.consume(announced_.size());
-    read_announcements();
     log_->info("demo: specimen {} of {}: {} ({})", next_, queue_.size(), s.material, s.description);
     start_when_tared();
-}
-
-void DemoRig::read_announcements() {
-    boost::asio::async_read_until(*announcements_, announced_, '\n', [this](boost::system::error_code ec, std::size_t n) {
-        if (ec) return;  // the simulator ended (or the demo is closing)
-        std::string line(boost::asio::buffers_begin(announced_.data()),
-                         boost::asio::buffers_begin(announced_.data()) + static_cast<std::ptrdiff_t>(n));
-        announced_.consume(n);
-        std::istringstream words(line);
-        std::string kind, where;
-        words >> kind >> where;
-        if (kind == "pty") point_extensometer_port(where);
-        read_announcements();
-    });
-}
-
-// Points the extensometer port at this run's pty: a new link renamed over
-// the old one, so the serial source never sees a half-made path.
-void DemoRig::point_extensometer_port(const std::string& pty) {
-    const auto port = demo_extensometer_port(data_dir_);
-    const auto fresh = std::filesystem::path(port.string() + ".new");
-    std::error_code ec;
-    std::filesystem::remove(fresh, ec);
-    std::filesystem::create_symlink(pty, fresh, ec);
-    if (!ec) std::filesystem::rename(fresh, port, ec);
-    if (ec) log_->error("demo: cannot point {} at {}: {}", port.string(), pty, ec.message());
-    else log_->info("demo: extensometer on {} ({})", port.string(), pty);
 }
 
 void DemoRig::start_when_tared() {
@@ -221,15 +158,8 @@ void DemoRig::start_when_tared() {
     tare_watch_.async_wait([this](const boost::system::error_code& ec) {
         if (ec) return;
         if (!rig_.controller().tare_taken()) return start_when_tared();
-        // The extensometer's link has its own clock; its time base fits that
-        // clock on a few seconds of stream before the test may rely on it, as
-        // an operator lets a rig settle between tare and start.
-        const double settle_s = one_link() ? 0.0 : 5.0 / std::max(speed_, 0.1);
-        log_->info("demo operator: tare taken, starting the frame in {:.1f} s", settle_s);
-        operator_.expires_after(std::chrono::milliseconds(static_cast<int>(1000 * settle_s)));
-        operator_.async_wait([this](const boost::system::error_code& wait) {
-            if (!wait) rig_.send_command("resume");
-        });
+        log_->info("demo operator: tare taken, starting the frame");
+        rig_.send_command("resume");
     });
 }
 

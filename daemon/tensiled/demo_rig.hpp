@@ -1,8 +1,5 @@
-// The embedded demo rig: tensile-sim started as a child process on the real
-// acquisition path, force and crosshead over loopback TCP (with the frame's
-// commands) and the clip-on extensometer on a link of its own, a
-// pseudo-terminal read as a serial port at half the rate and on its own
-// clock, so the aligner and both kinds of source take part; and a queue of specimens from
+// The embedded demo rig: tensile-sim started as a child process, serving its
+// stream over TCP on the real acquisition path, and a queue of specimens from
 // our own demo scenario (Harbourline Metals, an invented supplier) armed one
 // after the other. The demo also plays the operator: a couple of seconds after
 // the daemon asks for the extensometer to come off, it tells the simulator to
@@ -15,13 +12,10 @@
 #pragma once
 
 #include <filesystem>
-#include <memory>
 #include <string>
 #include <vector>
 
 #include <boost/asio/io_context.hpp>
-#include <boost/asio/posix/stream_descriptor.hpp>
-#include <boost/asio/streambuf.hpp>
 #include <boost/asio/steady_timer.hpp>
 #include <spdlog/spdlog.h>
 
@@ -39,19 +33,10 @@ struct DemoSpecimen {
 // Presets listed by the simulator (`tensile-sim --list-materials`). Throws std::runtime_error.
 std::vector<DemoSpecimen> list_demo_specimens(const std::filesystem::path& simulator);
 
-// Where the demo's extensometer port is: a link the demo points at each
-// simulator run's pseudo-terminal, as udev names a USB adapter for good.
-std::filesystem::path demo_extensometer_port(const std::filesystem::path& data_dir);
-
-// The demo rig's config text: force and crosshead on a TCP source on
-// 127.0.0.1:port with the commands, the extensometer on the serial port above;
-// or, `one_link`, all three channels on the TCP source (benchmarks at rates a
-// serial line could not carry). `pace`: simulated seconds per real second.
+// The demo rig's config text (one TCP source on 127.0.0.1:port, commands on it).
+// `pace`: simulated seconds per real second (the simulator's clock runs at it).
 std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_t sim_port, std::uint16_t monitor_port,
-                             double pace = 1.0, bool one_link = false);
-
-// The demo config's TCP source (named "frame"), whose port the simulator serves.
-const drivers::SourceConfig& demo_frame_source(const DaemonConfig& config);
+                             double pace = 1.0);
 
 class DemoRig {
 public:
@@ -80,10 +65,6 @@ private:
     void spawn(const DemoSpecimen& s);
     void reap();
     void start_when_tared();
-    void read_announcements();
-    // Benchmarks put every channel on the TCP link; the demo splits them.
-    [[nodiscard]] bool one_link() const { return fast_rate_hz_ > 0; }
-    void point_extensometer_port(const std::string& pty);
 
     boost::asio::io_context& io_;
     RigService& rig_;
@@ -100,9 +81,6 @@ private:
     std::size_t next_ = 0;
     int child_ = -1;
     boost::asio::steady_timer operator_, pause_, tare_watch_;
-    // The simulator's stdout: its links, e.g. "pty /dev/pts/7 extension".
-    std::unique_ptr<boost::asio::posix::stream_descriptor> announcements_;
-    boost::asio::streambuf announced_;
 };
 
 }  // namespace tensile

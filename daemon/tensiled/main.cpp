@@ -74,7 +74,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     std::unique_ptr<tensile::DemoRig> demo_rig;
     if (demo) {
         const auto sim = self.parent_path() / "tensile-sim";
-        const auto port = static_cast<std::uint16_t>(demo_frame_source(config).tcp.port);
+        const auto port = static_cast<std::uint16_t>(config.drivers.sources.front().tcp.port);
         // Our demo scenario's running order: the yield-point steel first.
         auto queue = tensile::list_demo_specimens(sim);
         std::stable_sort(queue.begin(), queue.end(), [](const auto& a, const auto& b) {
@@ -178,10 +178,8 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     if (service.watchdog_interval().count() > 0)
         log->info("systemd watchdog: pinging every {} ms", service.watchdog_interval().count() / 2000);
     if (demo_rig) {
-        std::cout << "demo: the simulator plays Harbourline Metals specimens: force and crosshead on 127.0.0.1:"
-                  << demo_frame_source(config).tcp.port
-                  << (config.drivers.sources.size() > 1 ? ", the extensometer on a pseudo-terminal" : "")
-                  << "; results print as each run ends. Ctrl-C to stop.\n"
+        std::cout << "demo: the simulator plays Harbourline Metals specimens on 127.0.0.1:"
+                  << config.drivers.sources.front().tcp.port << "; results print as each run ends. Ctrl-C to stop.\n"
                   << std::flush;
         demo_rig->start();
     }
@@ -238,7 +236,7 @@ int main(int argc, char** argv) {
     try {
         if (demo) {
             const auto dir = std::filesystem::absolute(data_dir);
-            config = tensile::load_daemon_config_text(tensile::demo_config_text(dir, free_port(), 8470, demo_speed, demo_fast_rate > 0), dir);
+            config = tensile::load_daemon_config_text(tensile::demo_config_text(dir, free_port(), 8470, demo_speed), dir);
             // The demo keeps its monitor token beside its database (created owner-only).
             config.monitor.token_file = dir / "monitor.token";
         } else {
