@@ -53,6 +53,9 @@ DaemonConfig load_daemon_config_text(const std::string& text, const std::filesys
             c.log_level = *v;
         if (auto v = r.number("min_free_mb", 0, 1e7, "free disk space in MB below which recording stops, e.g. 200"))
             c.min_free_mb = *v;
+        if (auto v = r.number("max_database_mb", 0, 1e9,
+                              "a cap on the database file in MB (0: none), e.g. 20000; reaching it stops recording with an alarm"))
+            c.max_database_mb = *v;
         r.finish();
     }
     if (const auto* t = sub_table(top, "monitor", "monitor")) {

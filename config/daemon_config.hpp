@@ -1,6 +1,6 @@
 // The whole config of one tensiled process, read from one TOML file:
 //
-//   [daemon]   data_dir, log_level, min_free_mb
+//   [daemon]   data_dir, log_level, min_free_mb, max_database_mb
 //   [monitor]  listen, port, token_file
 //   [rig]      name, master, commands, relay, max_wait_ms, stale_after_ms,
 //              device_lost_limit_s
@@ -46,6 +46,7 @@ struct DaemonConfig {
     std::filesystem::path data_dir;
     std::string log_level = "info";
     double min_free_mb = 200;
+    double max_database_mb = 0;  // 0: no cap on the database file
     MonitorConfig monitor;
     RigConfig rig;
     std::map<std::string, RunSettings> profiles;

@@ -12,6 +12,11 @@
 //   `disk_check_interval`; below `min_free_bytes` frames and raw bytes are
 //   refused (counted), an alarm is written, and what is stored stays as it is.
 //   Recording resumes, with an alarm, once space is back above the minimum.
+// - A database that cannot grow (SQLITE_FULL: the disk filled before the guard
+//   saw it, or `max_database_bytes` was reached): the frames and raw bytes not
+//   yet committed are given up and counted, a `disk_full` alarm is raised, and
+//   the run takes no more of them; states, events, alarms and the run's close
+//   stay in the backlog and are tried again. What was committed stays intact.
 // - Another process holding the database's write lock (an open sqlite3 session,
 //   a backup tool): the writer keeps everything since its last commit in memory
 //   (the backlog, up to `backlog_bytes`), raises a `database_locked` alarm,
@@ -59,6 +64,10 @@ struct RecorderOptions {
     std::chrono::milliseconds commit_interval{200};
     std::chrono::milliseconds poll_interval{10};   // how long the writer naps when nothing is pushed
     std::uint64_t min_free_bytes = 256ull << 20;
+    // A cap on the database file (0: none), applied as SQLite's page limit on
+    // the writer's connection. Reaching it, or a disk that fills before the
+    // free-space guard sees it, stops recording like the guard does.
+    std::uint64_t max_database_bytes = 0;
     std::chrono::milliseconds disk_check_interval{1000};
     std::size_t backlog_bytes = 32u << 20;         // written data held while the database is locked
     std::shared_ptr<spdlog::logger> log;           // may be null: no logging

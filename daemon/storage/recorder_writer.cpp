@@ -39,6 +39,15 @@ Recorder::Writer::Writer(Store store, const RecorderOptions& options, RecorderIn
                          std::atomic<std::uint64_t>& raw_in_flight, const std::atomic<bool>& stopping)
     : store_(std::move(store)), options_(options), inbox_(inbox), raw_in_flight_(raw_in_flight), stopping_(stopping) {
     chunk_.reserve(options_.chunk_frames);
+    if (options_.max_database_bytes > 0) {
+        std::int64_t page = 4096;
+        if (auto q = store_.db().prepare("PRAGMA page_size"); q)
+            if (auto row = q->step(); row && *row) page = q->int64(0);
+        // PRAGMA takes no parameters; the number is ours, not input.
+        const std::string cap = "PRAGMA max_page_count = " +
+                                std::to_string(std::max<std::uint64_t>(1, options_.max_database_bytes / static_cast<std::uint64_t>(page)));
+        if (auto q = store_.db().prepare(cap.c_str()); q) (void)q->step();
+    }
 }
 
 void Recorder::Writer::run() {
@@ -90,6 +99,7 @@ void Recorder::Writer::handle(Message& m) {
     if (auto* begin = std::get_if<BeginRun>(&m.payload)) {
         if (run_) close_run();
         run_ = begin->run;
+        db_full_ = false;  // a new run tries again
         // A run may be resumed by a later recorder; continue its numbering.
         chunk_seq_ = 0;
         run_frame_index_ = 0;
@@ -101,7 +111,7 @@ void Recorder::Writer::handle(Message& m) {
         close_run();
     } else if (auto* raw = std::get_if<RawPiece>(&m.payload)) {
         raw_in_flight_.fetch_sub(raw->bytes.size(), std::memory_order_relaxed);
-        if (!run_ || disk_low.load()) {
+        if (!run_ || disk_low.load() || db_full_) {
             raw_bytes_refused.fetch_add(raw->bytes.size(), std::memory_order_relaxed);
             return;
         }
@@ -138,7 +148,7 @@ void Recorder::Writer::handle(Message& m) {
 void Recorder::Writer::take_frames(std::span<const Frame> frames) {
     if (frames.empty()) return;
     if (!run_) { frames_without_run.fetch_add(frames.size(), std::memory_order_relaxed); return; }
-    if (disk_low.load()) {
+    if (disk_low.load() || db_full_) {
         frames_refused_disk.fetch_add(frames.size(), std::memory_order_relaxed);
         run_frame_index_ += static_cast<std::int64_t>(frames.size());  // the gap shows in first_index
         return;
@@ -256,17 +266,24 @@ Recorder::Writer::Outcome Recorder::Writer::commit() {
             locked(s.error());
             return false;
         }
+        if (db.last_was_full()) {
+            (void)db.exec("ROLLBACK");
+            full(s.error());
+            return false;
+        }
         write_errors.fetch_add(1, std::memory_order_relaxed);
         if (options_.log) options_.log->error("recorder: writing {} failed: {}", what, s.error());
         return true;  // this write is lost (counted, logged); the others go on
     };
     for (const Write& w : backlog_)
-        if (!write(w, "a backlog record")) return Outcome::locked;
-    if (tail && !write(*tail, "frame chunk")) return Outcome::locked;
+        if (!write(w, "a backlog record")) return db_full_ ? Outcome::failed : Outcome::locked;
+    if (tail && !write(*tail, "frame chunk")) return db_full_ ? Outcome::failed : Outcome::locked;
     if (auto s = db.exec("COMMIT"); !s) {
         const bool busy = db.last_was_busy();
+        const bool no_room = db.last_was_full();
         (void)db.exec("ROLLBACK");
         if (busy) { locked(s.error()); return Outcome::locked; }
+        if (no_room) { full(s.error()); return Outcome::failed; }
         write_errors.fetch_add(1, std::memory_order_relaxed);
         if (options_.log) options_.log->error("recorder: commit failed, {} records lost: {}", backlog_.size(), s.error());
         for (auto& [done, st] : finished) done->set_value(Error{"recorder: commit failed: " + s.error()});
@@ -330,6 +347,34 @@ void Recorder::Writer::unlocked() {
                                                       " frames were dropped while the queue was full"
                                                 : ", no frame lost"));
     commit_now_ = true;  // the alarm itself goes in at once
+}
+
+// The database could not grow (disk full, or its size cap): frames and raw
+// bytes of the run stop being taken and those waiting are given up, counted;
+// the small records (states, events, alarms, the run's close) stay in the
+// backlog and are tried again. What was committed before stays intact.
+void Recorder::Writer::full(const std::string& why) {
+    std::uint64_t frames_lost = uncommitted_frames_;
+    std::erase_if(backlog_, [&](const Write& w) {
+        if (std::holds_alternative<FrameChunkRow>(w)) return true;
+        if (const auto* r = std::get_if<RawWrite>(&w)) {
+            raw_bytes_refused.fetch_add(r->chunk.bytes.size(), std::memory_order_relaxed);
+            return true;
+        }
+        return false;
+    });
+    backlog_size_ = 256 * backlog_.size();  // what is left is small records
+    backlog_bytes.store(backlog_size_, std::memory_order_relaxed);
+    chunk_.clear();
+    chunk_dirty_ = false;
+    raw_.clear();
+    frames_refused_disk.fetch_add(frames_lost, std::memory_order_relaxed);
+    uncommitted_frames_ = 0;
+    if (db_full_) return;
+    db_full_ = true;
+    alarm("disk_full", "the database " + options_.path + " cannot grow (" + why + "): recording of frames and raw bytes "
+                       "stopped for this run, " + std::to_string(frames_lost) +
+                       " frames not yet committed were given up; what was stored before is kept");
 }
 
 // Stopping while locked: a few more tries, then say loudly what is lost.

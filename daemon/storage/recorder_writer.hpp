@@ -50,6 +50,7 @@ private:
     enum class Outcome { committed, locked, failed };
 
     void handle(Message& m);
+    void full(const std::string& why);
     void take_frames(std::span<const Frame> frames);
     void close_chunk();                // moves the open chunk to the backlog and starts a new one
     std::optional<FrameChunkRow> tail_row() const;  // the open, partial chunk as a row
@@ -85,6 +86,7 @@ private:
     std::int64_t chunk_first_index_ = 0;
     std::int64_t run_frame_index_ = 0;  // frames routed to the run, stored or refused
     bool chunk_dirty_ = false;
+    bool db_full_ = false;  // the database could not grow during this run
     std::map<std::string, RawBuffer> raw_;
     std::map<std::string, std::int64_t> raw_seq_;
     std::uint64_t uncommitted_frames_ = 0;

@@ -118,6 +118,7 @@ bool Db::last_was_busy() const {
     const int rc = sqlite3_errcode(db_) & 0xff;
     return rc == SQLITE_BUSY || rc == SQLITE_LOCKED;
 }
+bool Db::last_was_full() const { return (sqlite3_errcode(db_) & 0xff) == SQLITE_FULL; }
 void Db::set_busy_timeout(int ms) { sqlite3_busy_timeout(db_, ms); }
 
 }  // namespace tensile::storage

@@ -84,6 +84,8 @@ public:
     // The last failure was another connection's lock (SQLITE_BUSY / SQLITE_LOCKED
     // after the busy timeout): worth trying again later, unlike other errors.
     [[nodiscard]] bool last_was_busy() const;
+    // The last error was SQLITE_FULL: the disk, or the database's page cap, is full.
+    [[nodiscard]] bool last_was_full() const;
     void set_busy_timeout(int ms);
     [[nodiscard]] sqlite3* handle() const { return db_; }
 

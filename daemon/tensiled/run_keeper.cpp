@@ -45,7 +45,7 @@ std::string locked_message(const std::filesystem::path& db, const std::string& w
 }  // namespace
 
 RunKeeper::RunKeeper(const std::filesystem::path& database, double min_free_mb, std::shared_ptr<spdlog::logger> log,
-                     Notify notify, std::size_t backlog_mb)
+                     Notify notify, std::size_t backlog_mb, double max_database_mb)
     : path_(database), log_(std::move(log)) {
     std::error_code ec;
     std::filesystem::create_directories(path_.parent_path(), ec);
@@ -63,6 +63,7 @@ RunKeeper::RunKeeper(const std::filesystem::path& database, double min_free_mb, 
     options.min_free_bytes = static_cast<std::uint64_t>(min_free_mb * 1024 * 1024);
     options.open.busy_timeout_ms = recorder_lock_wait_ms;
     options.backlog_bytes = backlog_mb << 20;
+    options.max_database_bytes = static_cast<std::uint64_t>(max_database_mb * 1024 * 1024);
     options.log = log_;
     options.notify = std::move(notify);
     auto recorder = storage::Recorder::start(options);

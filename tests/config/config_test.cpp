@@ -53,6 +53,8 @@ TEST_CASE("a minimal config gets the ISO 6892-1 defaults") {
     CHECK(c.data_dir == std::filesystem::path("/srv/lab/data"));
     CHECK(c.monitor.listen == "127.0.0.1");
     CHECK(c.monitor.port == 8470);
+    CHECK(c.max_database_mb == 0);  // no cap unless asked for
+    CHECK(load_daemon_config_text(minimal + "[daemon]\nmax_database_mb = 20000\n", "/srv/lab").max_database_mb == 20000);
     const auto& p = c.profiles.at("iso-6892-a").profile;
     // ISO6892-MethodA (from memory): range 2 = 0.00025 1/s ± 20 % in the elastic part.
     CHECK(p.rate_bands[0].max_per_s == Approx(0.00025 * 1.2));
@@ -95,6 +97,7 @@ TEST_CASE("mistakes are refused with the key named and what was expected") {
     CHECK_THAT(error_of(minimal + "[profile.a.handover]\nwhen = \"sometimes\"\n"), Catch::Contains("after-yield"));
     CHECK_THAT(error_of(minimal + "[run]\nprofile = \"nope\"\n"), Catch::Contains("run.profile"));
     CHECK_THAT(error_of(minimal + "[rig]\ncommands = \"frame\"\n"), Catch::Contains("rig.commands"));
+    CHECK_THAT(error_of(minimal + "[daemon]\nmax_database_mb = -5\n"), Catch::Contains("daemon.max_database_mb"));
     CHECK_THAT(error_of(minimal + "[oops]\n"), Catch::Contains("oops"));
     CHECK_THAT(error_of("[daemon\n"), Catch::Contains("line 1"));
     CHECK_THAT(error_of(""), Catch::Contains("source"));

@@ -4,6 +4,8 @@
 #include <catch2/catch.hpp>
 
 #include <bit>
+#include <algorithm>
+#include <mutex>
 #include <thread>
 
 #include "daemon/storage/recorder.hpp"
@@ -178,6 +180,60 @@ TEST_CASE("below the free-space minimum, recording stops with an alarm and store
     alarms->insert(alarms->end(), unbound->begin(), unbound->end());
     REQUIRE(alarms->size() == 1);
     CHECK(alarms->at(0).kind == "disk_low");
+    auto check = store->db().prepare("PRAGMA integrity_check");
+    REQUIRE(*check->step());
+    CHECK(check->text(0) == "ok");
+}
+
+TEST_CASE("a database that cannot grow stops recording with an alarm and keeps what it stored", "[recorder]") {
+    // A size-limited database stands in for a disk that fills before the
+    // free-space guard sees it (SQLite answers SQLITE_FULL either way).
+    TempDir dir;
+    const auto path = dir.file("runs.db");
+    const auto run = new_run(path);
+    auto opts = options_for(path);
+    opts.chunk_frames = 1000;
+    opts.max_database_bytes = 1u << 20;  // 1 MiB
+    std::vector<std::string> alarms_seen;
+    std::mutex seen_mutex;
+    opts.notify = [&](const std::string& kind, const std::string&) {
+        std::lock_guard lock(seen_mutex);
+        alarms_seen.push_back(kind);
+    };
+    auto rec = Recorder::start(opts);
+    REQUIRE(rec.ok());
+    Recorder& r = **rec;
+    r.begin_run(run);
+    // Raw bytes that do not compress fill the file quickly; frames come with them.
+    std::string noise(4096, '\0');
+    std::uint64_t x = 88172645463325252ull;
+    std::size_t pushed = 0;
+    for (std::size_t k = 0; k < 600; ++k) {
+        for (char& c : noise) {
+            x ^= x << 13, x ^= x >> 7, x ^= x << 17;  // xorshift64 (Marsaglia 2003)
+            c = static_cast<char>(x);
+        }
+        (void)r.try_push_raw("load-cell", noise, 0.001 * static_cast<double>(k));
+        pushed += r.try_push(frames_from(pushed, 100));
+        if (k % 50 == 49) (void)r.flush();
+    }
+    (void)r.flush();
+    const auto c = r.counters();
+    CHECK(c.frames_refused_disk > 0);
+    CHECK(c.raw_bytes_refused > 0);
+    {
+        std::lock_guard lock(seen_mutex);
+        CHECK(std::count(alarms_seen.begin(), alarms_seen.end(), "disk_full") == 1);
+    }
+    r.stop();
+    // What was committed before the database filled is intact and readable.
+    auto store = Store::open(path);
+    REQUIRE(store.ok());
+    const auto stored = store->load_frames(run);
+    REQUIRE(stored.ok());
+    CHECK(stored->size() > 0);
+    CHECK(stored->size() + c.frames_refused_disk == pushed);
+    for (std::size_t i = 0; i < stored->size(); ++i) REQUIRE((*stored)[i].force_N == 5.0 * static_cast<double>(i));
     auto check = store->db().prepare("PRAGMA integrity_check");
     REQUIRE(*check->step());
     CHECK(check->text(0) == "ok");
