@@ -12,6 +12,9 @@
 //   - A run that ends while the lock is held is closed (finished, with its
 //     digest) once the lock goes; the stop command is answered meanwhile.
 //   - The database passes `PRAGMA integrity_check` afterwards.
+// And the disk filling under a run, emulated with a size-limited database
+// ([daemon] max_database_mb): a `disk_full` alarm, recording stops, what was
+// stored stays whole and the daemon keeps serving.
 #include <catch2/catch.hpp>
 
 #include <cstdio>
@@ -83,7 +86,7 @@ struct Simulator {
     int port = 0;
 };
 
-fs::path write_config(const fs::path& dir, int sim_port) {
+fs::path write_config(const fs::path& dir, int sim_port, const std::string& daemon_extra = "") {
     auto file = write_hardening_config(dir);
     // The hardening rig with its source pointed at the simulator.
     std::ifstream in(file);
@@ -92,6 +95,7 @@ fs::path write_config(const fs::path& dir, int sim_port) {
     auto s = text.str();
     const auto at = s.find("port = ", s.find("[source.frame]"));
     s.replace(at, s.find('\n', at) - at, "port = " + std::to_string(sim_port));
+    if (!daemon_extra.empty()) s.insert(s.find('\n', s.find("[daemon]")) + 1, daemon_extra);
     std::ofstream(file) << s;
     return file;
 }
@@ -199,6 +203,50 @@ TEST_CASE("database locked by another process: arming refused, a lock mid-run lo
     // The last release comes after the run's close, so it belongs to no run.
     CHECK(sql("SELECT kind FROM alarms WHERE kind LIKE 'database_%' ORDER BY id;") ==
           "database_locked\ndatabase_unlocked\ndatabase_locked\ndatabase_unlocked\n");
+    CHECK(sql("PRAGMA integrity_check;") == "ok\n");
+    CHECK(d.stop() == 0);
+    fs::remove_all(dir);
+}
+
+TEST_CASE("the disk fills under a run: a disk_full alarm, recording stops, what was stored stays whole") {
+    const auto dir = temp_dir("tensiled-hardening-full");
+    Simulator sim(dir);
+    REQUIRE(sim.port > 0);
+    const auto config = write_config(dir, sim.port, "max_database_mb = 0.75\n");
+    Daemon d({"--config", config.string()}, dir / "out.log");
+    INFO(d.output());
+    REQUIRE(d.port != 0);
+    const auto p = d.port;
+    const auto bearer = "Bearer " + read_token(dir);
+    const auto db = dir / "data" / "tensiled.db";
+    const auto status = [&] { return json::parse(http(p, "GET", "/api/v1/status").body); };
+    const auto has_alarm = [&](const std::string& kind) {
+        const auto now = status();
+        for (const auto& a : now["alarms"])
+            if (a["kind"] == kind) return true;
+        return false;
+    };
+    REQUIRE(wait_for([&] { return status()["sources"][0]["state"] == "connected"; }, 10));
+    const std::string arm =
+        R"({"specimen": {"label": "HM-0732", "shape": "round", "diameter_mm": 10, "gauge_length_mm": 50}})";
+    REQUIRE(http(p, "POST", "/api/v1/arm", arm, bearer).status == 200);
+    REQUIRE(wait_for([&] { return status()["state"] == "running"; }, 10));
+    // About 110 kB a second of frames and raw bytes: the 0.75 MB cap is met within seconds.
+    REQUIRE(wait_for([&] { return has_alarm("disk_full"); }, 30));
+    const auto at_full = status()["recorder"];
+    INFO(at_full.dump());
+    std::this_thread::sleep_for(std::chrono::seconds(1));
+    const auto later = status()["recorder"];
+    CHECK(later["frames_refused_disk"].get<std::uint64_t>() > at_full["frames_refused_disk"].get<std::uint64_t>());
+    CHECK(later["frames_committed"] == at_full["frames_committed"]);  // recording stopped
+    CHECK(status()["state"] == "running");  // the test itself goes on; only its recording stopped
+    CHECK(http(p, "POST", "/api/v1/stop", "", bearer).status == 200);
+    // What was committed before is whole: frames from the run's start, no hole.
+    const auto committed = at_full["frames_committed"].get<std::uint64_t>();
+    CHECK(committed > 1000);
+    const auto sql = [&](const std::string& q) { return run_command("sqlite3 " + db.string() + " \"" + q + "\"").out; };
+    CHECK(std::stoull(sql("SELECT coalesce(sum(frame_count), 0) FROM frame_chunks WHERE run_id = 1;")) == committed);
+    CHECK(sql("SELECT min(first_index) FROM frame_chunks WHERE run_id = 1;") == "0\n");
     CHECK(sql("PRAGMA integrity_check;") == "ok\n");
     CHECK(d.stop() == 0);
     fs::remove_all(dir);
