@@ -100,6 +100,16 @@ fs::path write_config(const fs::path& dir, int sim_port, const std::string& daem
     return file;
 }
 
+json status_of(std::uint16_t port) { return json::parse(http(port, "GET", "/api/v1/status").body); }
+
+// Whether the live alarm list holds one of this kind.
+bool alarm_raised(std::uint16_t port, const std::string& kind) {
+    const auto now = status_of(port);  // kept: a loop over a temporary's member would dangle
+    for (const auto& a : now["alarms"])
+        if (a["kind"] == kind) return true;
+    return false;
+}
+
 }  // namespace
 
 TEST_CASE("database locked by another process: arming refused, a lock mid-run loses no frame, a run ended under it is kept") {
@@ -113,13 +123,8 @@ TEST_CASE("database locked by another process: arming refused, a lock mid-run lo
     const auto p = d.port;
     const auto bearer = "Bearer " + read_token(dir);
     const auto db = dir / "data" / "tensiled.db";
-    const auto status = [&] { return json::parse(http(p, "GET", "/api/v1/status").body); };
-    const auto has_alarm = [&](const std::string& kind) {
-        const auto now = status();  // kept: a loop over a temporary's member would dangle
-        for (const auto& a : now["alarms"])
-            if (a["kind"] == kind) return true;
-        return false;
-    };
+    const auto status = [&] { return status_of(p); };
+    const auto has_alarm = [&](const std::string& kind) { return alarm_raised(p, kind); };
     REQUIRE(wait_for([&] { return status()["sources"][0]["state"] == "connected"; }, 10));
     const std::string arm =
         R"({"specimen": {"label": "HM-0731", "shape": "round", "diameter_mm": 10, "gauge_length_mm": 50}})";
@@ -219,13 +224,8 @@ TEST_CASE("the disk fills under a run: a disk_full alarm, recording stops, what 
     const auto p = d.port;
     const auto bearer = "Bearer " + read_token(dir);
     const auto db = dir / "data" / "tensiled.db";
-    const auto status = [&] { return json::parse(http(p, "GET", "/api/v1/status").body); };
-    const auto has_alarm = [&](const std::string& kind) {
-        const auto now = status();
-        for (const auto& a : now["alarms"])
-            if (a["kind"] == kind) return true;
-        return false;
-    };
+    const auto status = [&] { return status_of(p); };
+    const auto has_alarm = [&](const std::string& kind) { return alarm_raised(p, kind); };
     REQUIRE(wait_for([&] { return status()["sources"][0]["state"] == "connected"; }, 10));
     const std::string arm =
         R"({"specimen": {"label": "HM-0732", "shape": "round", "diameter_mm": 10, "gauge_length_mm": 50}})";

@@ -12,33 +12,16 @@
 #include "daemon/storage/recorder.hpp"
 #include "daemon/storage/schema.hpp"
 #include "daemon/storage/store.hpp"
+#include "recorder_fixture.hpp"
 #include "temp_dir.hpp"
 
 using namespace tensile;
 using namespace tensile::storage;
 using tensile::testing::TempDir;
+using tensile::testing::frames_from;
+using tensile::testing::new_run;
 
 namespace {
-
-std::int64_t new_run(const std::string& path) {
-    auto store = Store::open(path);
-    REQUIRE(store.ok());
-    NewRun r;
-    r.material = "S355";
-    r.state = RunState::running;
-    auto id = store->create_run(r);
-    REQUIRE(id.ok());
-    return *id;
-}
-
-std::vector<Frame> frames_from(std::size_t first, std::size_t n) {
-    std::vector<Frame> f(n);
-    for (std::size_t i = 0; i < n; ++i) {
-        const auto k = static_cast<double>(first + i);
-        f[i] = Frame{k * 0.001, 5.0 * k, k * 1e-4, k * 2e-4};
-    }
-    return f;
-}
 
 // Another connection holding the write lock until release().
 class LockHolder {
@@ -73,11 +56,8 @@ bool wait_until(F ready, double seconds) {
 }
 
 RecorderOptions options_for(const std::string& path, Alarms& alarms) {
-    RecorderOptions o;
-    o.path = path;
-    o.open.durability = Durability::process_safe;
+    RecorderOptions o = tensile::testing::options_for(path);
     o.open.busy_timeout_ms = 50;
-    o.min_free_bytes = 0;
     o.chunk_frames = 1000;
     o.notify = [&alarms](const std::string& kind, const std::string&) { alarms.add(kind); };
     return o;

@@ -10,43 +10,15 @@
 
 #include "daemon/storage/recorder.hpp"
 #include "daemon/storage/store.hpp"
+#include "recorder_fixture.hpp"
 #include "temp_dir.hpp"
 
 using namespace tensile;
 using namespace tensile::storage;
 using tensile::testing::TempDir;
-
-namespace {
-
-std::int64_t new_run(const std::string& path) {
-    auto store = Store::open(path);
-    REQUIRE(store.ok());
-    NewRun r;
-    r.material = "S355";
-    r.state = RunState::running;
-    auto id = store->create_run(r);
-    REQUIRE(id.ok());
-    return *id;
-}
-
-std::vector<Frame> frames_from(std::size_t first, std::size_t n) {
-    std::vector<Frame> f(n);
-    for (std::size_t i = 0; i < n; ++i) {
-        const auto k = static_cast<double>(first + i);
-        f[i] = Frame{k * 0.001, 5.0 * k, k * 1e-4, k * 2e-4};
-    }
-    return f;
-}
-
-RecorderOptions options_for(const std::string& path) {
-    RecorderOptions o;
-    o.path = path;
-    o.open.durability = Durability::process_safe;  // tests need no power-cut safety
-    o.min_free_bytes = 0;
-    return o;
-}
-
-}  // namespace
+using tensile::testing::frames_from;
+using tensile::testing::new_run;
+using tensile::testing::options_for;
 
 TEST_CASE("the recorder stores frames, raw bytes, events, alarms and counters", "[recorder]") {
     TempDir dir;
