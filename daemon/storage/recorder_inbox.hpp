@@ -93,8 +93,9 @@ public:
     template <class Duration>
     void take(std::vector<Frame>& frames, std::vector<Message>& messages, Duration wait, const std::atomic<bool>& stopping) {
         std::unique_lock lock(mutex_);
-        if (frames_.empty() && messages_.empty() && !stopping.load())
-            wake_.wait_for(lock, wait, [&] { return stopping.load() || !messages_.empty(); });
+        if (frames_.empty() && messages_.empty() && !stopping.load() && !woken_)
+            wake_.wait_for(lock, wait, [&] { return stopping.load() || !messages_.empty() || woken_; });
+        woken_ = false;
         frames.clear();
         messages.clear();
         frames.swap(frames_);
@@ -104,7 +105,14 @@ public:
         if (messages_.capacity() < message_capacity_ + control_reserve) messages_.reserve(message_capacity_ + control_reserve);
     }
 
-    void wake() { wake_.notify_one(); }
+    // Ends the writer's current wait (stop, or a commit came back).
+    void wake() {
+        {
+            std::lock_guard lock(mutex_);
+            woken_ = true;
+        }
+        wake_.notify_one();
+    }
 
     std::size_t frames_waiting() const { std::lock_guard lock(mutex_); return frames_.size(); }
     std::uint64_t frames_accepted() const { std::lock_guard lock(mutex_); return frames_accepted_; }
@@ -126,6 +134,7 @@ private:
     std::uint64_t frames_accepted_ = 0;
     std::size_t frame_high_water_ = 0;
     std::size_t message_high_water_ = 0;
+    bool woken_ = false;
 };
 
 }  // namespace tensile::storage

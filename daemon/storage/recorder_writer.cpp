@@ -37,16 +37,18 @@ constexpr auto retry_pause = std::chrono::milliseconds(50);
 
 Recorder::Writer::Writer(Store store, const RecorderOptions& options, RecorderInbox& inbox,
                          std::atomic<std::uint64_t>& raw_in_flight, const std::atomic<bool>& stopping)
-    : store_(std::move(store)), options_(options), inbox_(inbox), raw_in_flight_(raw_in_flight), stopping_(stopping) {
+    : options_(options), inbox_(inbox), raw_in_flight_(raw_in_flight), stopping_(stopping),
+      committer_(std::move(store), options.log, write_errors, [&inbox] { inbox.wake(); }) {
     chunk_.reserve(options_.chunk_frames);
     if (options_.max_database_bytes > 0) {
+        auto& db = committer_.store().db();  // idle: nothing handed over yet
         std::int64_t page = 4096;
-        if (auto q = store_.db().prepare("PRAGMA page_size"); q)
+        if (auto q = db.prepare("PRAGMA page_size"); q)
             if (auto row = q->step(); row && *row) page = q->int64(0);
         // PRAGMA takes no parameters; the number is ours, not input.
         const std::string cap = "PRAGMA max_page_count = " +
                                 std::to_string(std::max<std::uint64_t>(1, options_.max_database_bytes / static_cast<std::uint64_t>(page)));
-        if (auto q = store_.db().prepare(cap.c_str()); q) (void)q->step();
+        if (auto q = db.prepare(cap.c_str()); q) (void)q->step();
     }
 }
 
@@ -57,7 +59,6 @@ void Recorder::Writer::run() {
     std::uint64_t taken = 0;  // frames taken from the inbox so far
     next_commit_ = Clock::now() + options_.commit_interval;
     next_disk_check_ = Clock::now();
-    Clock::time_point retry_at{};
     for (;;) {
         // Read before taking: everything pushed before stop() is in this last take.
         const bool stop = stopping_.load();
@@ -80,18 +81,17 @@ void Recorder::Writer::run() {
         }
         take_frames(std::span<const Frame>(frames).subspan(pos));
         taken += frames.size();
-        const bool due = stop || commit_now_ || Clock::now() >= next_commit_;
-        // After a failed try, the next one waits a little (a lock) or a second
-        // (any other error), so a lasting fault neither spins nor floods the log.
-        if (due && (stop || Clock::now() >= retry_at)) {
-            const Outcome outcome = commit();
-            if (outcome != Outcome::committed)
-                retry_at = Clock::now() + (outcome == Outcome::locked ? retry_pause : std::chrono::milliseconds(1000));
-        }
+        if (auto result = committer_.take_result()) settle(std::move(*result));
         if (stop) {
+            wait_committer();
+            commit_now();
             if (locked_since_) give_up_at_stop();
             return;
         }
+        // After a failed try, the next one waits a little (a lock) or a second
+        // (any other error), so a lasting fault neither spins nor floods the log.
+        const bool due = commit_now_ || Clock::now() >= next_commit_;
+        if (due && !committer_.working() && Clock::now() >= retry_at_) hand_off();
     }
 }
 
@@ -100,12 +100,24 @@ void Recorder::Writer::handle(Message& m) {
         if (run_) close_run();
         run_ = begin->run;
         db_full_ = false;  // a new run tries again
-        // A run may be resumed by a later recorder; continue its numbering.
+        // A run may be resumed by a later recorder; continue its numbering
+        // (chunks and each source's raw chunks), as stored once the batch in
+        // flight is settled.
+        wait_committer();
         chunk_seq_ = 0;
         run_frame_index_ = 0;
-        if (auto q = store_.db().prepare("SELECT coalesce(max(seq) + 1, 0), coalesce(sum(frame_count), 0) FROM frame_chunks WHERE run_id = ?")) {
+        auto& db = committer_.store().db();
+        if (auto q = db.prepare("SELECT coalesce(max(seq) + 1, 0), coalesce(sum(frame_count), 0) FROM frame_chunks WHERE run_id = ?")) {
             q->bind(1, *run_);
             if (auto row = q->step(); row && *row) { chunk_seq_ = q->int64(0); run_frame_index_ = q->int64(1); }
+        }
+        raw_seq_.clear();
+        if (auto q = db.prepare("SELECT source, max(seq) + 1 FROM raw_chunks WHERE run_id = ? GROUP BY source")) {
+            q->bind(1, *run_);
+            while (auto row = q->step()) {
+                if (!*row) break;
+                raw_seq_[q->text(0)] = q->int64(1);
+            }
         }
     } else if (std::holds_alternative<EndRun>(m.payload)) {
         close_run();
@@ -193,13 +205,7 @@ void Recorder::Writer::close_chunk() {
 
 void Recorder::Writer::write_raw(RawBuffer& buf) {
     if (!run_ || buf.chunk.bytes.empty()) return;
-    auto [it, fresh] = raw_seq_.try_emplace(buf.chunk.source, 0);
-    if (fresh) {
-        if (auto q = store_.db().prepare("SELECT coalesce(max(seq) + 1, 0) FROM raw_chunks WHERE run_id = ? AND source = ?")) {
-            q->bind(1, *run_).bind(2, buf.chunk.source);
-            if (auto row = q->step(); row && *row) it->second = q->int64(0);
-        }
-    }
+    auto it = raw_seq_.try_emplace(buf.chunk.source, 0).first;  // numbered from what begin_run found stored
     buf.chunk.seq = it->second++;
     const std::size_t size = buf.chunk.bytes.size() + 16 * buf.chunk.arrivals.size() + 64;
     queue(RawWrite{*run_, std::move(buf.chunk), buf.first_s, buf.last_s}, size);
@@ -220,98 +226,97 @@ void Recorder::Writer::close_run() {
 void Recorder::Writer::queue(Write w, std::size_t bytes) {
     backlog_.push_back(std::move(w));
     backlog_size_ += bytes;
-    backlog_bytes.store(backlog_size_, std::memory_order_relaxed);
+    show_backlog();
 }
 
-Status Recorder::Writer::apply(const Write& w) {
-    if (const auto* row = std::get_if<FrameChunkRow>(&w)) return store_.write_frame_chunk(*row);
-    if (const auto* raw = std::get_if<RawWrite>(&w)) return store_.write_raw_chunk(raw->run, raw->chunk, raw->first_s, raw->last_s);
-    if (const auto* e = std::get_if<EventWrite>(&w)) return store_.add_event(e->run, e->event);
-    if (const auto* a = std::get_if<AlarmRecord>(&w)) return store_.add_alarm(*a);
-    if (const auto* c = std::get_if<CounterRecord>(&w)) return store_.add_counter(*c);
-    if (const auto* s = std::get_if<StateWrite>(&w)) return store_.write_state(s->run, s->state, s->cause, s->unix_s);
-    const auto& f = std::get<FinishRun>(w);
-    if (f.results_json)
-        if (auto s = store_.set_results_json(f.run, *f.results_json); !s) return s;
-    return store_.write_finish(f.run, f.state, f.cause, f.unix_s);
+void Recorder::Writer::show_backlog() {
+    backlog_bytes.store(backlog_size_ + in_flight_size_, std::memory_order_relaxed);
 }
 
-// Writes the backlog and the open chunk in one transaction. Locked: rolled
-// back, everything kept for the next try.
-Recorder::Writer::Outcome Recorder::Writer::commit() {
+// Hands the backlog and the open chunk to the committer as one batch. With
+// nothing to write, waiters are settled at once; while locked, an empty batch
+// still goes, to learn when the lock is gone.
+void Recorder::Writer::hand_off() {
     for (auto& [source, buf] : raw_) write_raw(buf);
     report_drops();
     next_commit_ = Clock::now() + options_.commit_interval;
-    const auto tail = chunk_dirty_ ? tail_row() : std::nullopt;
-    if (backlog_.empty() && !tail && !locked_since_) {
-        commit_now_ = false;
-        settle_waiters(Done{});
-        return Outcome::committed;
-    }
-    auto& db = store_.db();
-    if (auto s = db.exec("BEGIN IMMEDIATE"); !s) {
-        if (db.last_was_busy()) { locked(s.error()); return Outcome::locked; }
-        write_errors.fetch_add(1, std::memory_order_relaxed);
-        if (options_.log) options_.log->error("recorder: cannot begin a transaction: {}", s.error());
-        return Outcome::failed;  // the backlog stays; the next commit tries again
-    }
-    const std::uint64_t errors_before = write_errors.load();
-    std::vector<std::pair<std::shared_ptr<std::promise<Status>>, Status>> finished;
-    auto write = [&](const Write& w, const char* what) -> bool {
-        Status s = apply(w);
-        if (const auto* f = std::get_if<FinishRun>(&w)) finished.emplace_back(f->done, s);
-        if (s) return true;
-        if (db.last_was_busy()) {
-            (void)db.exec("ROLLBACK");
-            locked(s.error());
-            return false;
-        }
-        if (db.last_was_full()) {
-            (void)db.exec("ROLLBACK");
-            full(s.error());
-            return false;
-        }
-        write_errors.fetch_add(1, std::memory_order_relaxed);
-        if (options_.log) options_.log->error("recorder: writing {} failed: {}", what, s.error());
-        return true;  // this write is lost (counted, logged); the others go on
-    };
-    for (const Write& w : backlog_)
-        if (!write(w, "a backlog record")) return db_full_ ? Outcome::failed : Outcome::locked;
-    if (tail && !write(*tail, "frame chunk")) return db_full_ ? Outcome::failed : Outcome::locked;
-    if (auto s = db.exec("COMMIT"); !s) {
-        const bool busy = db.last_was_busy();
-        const bool no_room = db.last_was_full();
-        (void)db.exec("ROLLBACK");
-        if (busy) { locked(s.error()); return Outcome::locked; }
-        if (no_room) { full(s.error()); return Outcome::failed; }
-        write_errors.fetch_add(1, std::memory_order_relaxed);
-        if (options_.log) options_.log->error("recorder: commit failed, {} records lost: {}", backlog_.size(), s.error());
-        for (auto& [done, st] : finished) done->set_value(Error{"recorder: commit failed: " + s.error()});
-        settle_waiters(Error{"recorder: commit failed: " + s.error()});
-        backlog_.clear();
-        backlog_size_ = 0;
-        backlog_bytes.store(0);
-        chunk_dirty_ = false;
-        uncommitted_frames_ = 0;
-        commit_now_ = false;
-        return Outcome::failed;
-    }
-    commits.fetch_add(1, std::memory_order_relaxed);
-    frames_committed.fetch_add(uncommitted_frames_, std::memory_order_relaxed);
-    for (const Write& w : backlog_)
-        if (const auto* raw = std::get_if<RawWrite>(&w))
-            raw_bytes_written.fetch_add(raw->chunk.bytes.size(), std::memory_order_relaxed);
-    uncommitted_frames_ = 0;
-    backlog_.clear();
-    backlog_size_ = 0;
-    backlog_bytes.store(0, std::memory_order_relaxed);
-    chunk_dirty_ = false;
+    auto tail = chunk_dirty_ ? tail_row() : std::nullopt;
     commit_now_ = false;
-    for (auto& [done, s] : finished) done->set_value(std::move(s));
-    if (write_errors.load() == errors_before) settle_waiters(Done{});
-    else settle_waiters(Error{"recorder: write errors since the last commit (see the log)"});
-    if (locked_since_) unlocked();
-    return Outcome::committed;
+    if (backlog_.empty() && !tail && !locked_since_) {
+        settle_waiters(Done{});
+        return;
+    }
+    CommitBatch batch{std::move(backlog_), std::move(tail), std::move(flushes_), uncommitted_frames_, backlog_size_};
+    backlog_.clear();
+    flushes_.clear();
+    uncommitted_frames_ = 0;
+    in_flight_size_ = backlog_size_;
+    backlog_size_ = 0;
+    chunk_dirty_ = false;
+    show_backlog();
+    committer_.submit(std::move(batch));
+}
+
+void Recorder::Writer::commit_now() {
+    hand_off();
+    wait_committer();
+}
+
+void Recorder::Writer::wait_committer() {
+    if (committer_.working() || committer_.has_result()) settle(committer_.wait_result());
+}
+
+// A batch that was not stored goes back in front of what came since, so the
+// order of writes holds. Its copy of the open chunk is dropped: the chunk is
+// either still open (written afresh next time) or closed since, and then
+// whole in the backlog.
+void Recorder::Writer::give_back(CommitBatch batch) {
+    backlog_.insert(backlog_.begin(), std::make_move_iterator(batch.writes.begin()), std::make_move_iterator(batch.writes.end()));
+    flushes_.insert(flushes_.begin(), batch.flushes.begin(), batch.flushes.end());
+    backlog_size_ += batch.bytes;
+    uncommitted_frames_ += batch.frames;
+    if (batch.tail && !chunk_.empty()) chunk_dirty_ = true;
+    in_flight_size_ = 0;
+    show_backlog();
+}
+
+void Recorder::Writer::settle(CommitResult r) {
+    using Outcome = CommitResult::Outcome;
+    in_flight_size_ = 0;
+    show_backlog();  // before any waiter wakes: it may read the counters at once
+    switch (r.outcome) {
+    case Outcome::committed: {
+        commits.fetch_add(1, std::memory_order_relaxed);
+        frames_committed.fetch_add(r.batch.frames, std::memory_order_relaxed);
+        for (const Write& w : r.batch.writes)
+            if (const auto* raw = std::get_if<RawWrite>(&w))
+                raw_bytes_written.fetch_add(raw->chunk.bytes.size(), std::memory_order_relaxed);
+        for (auto& [done, s] : r.finished) done->set_value(std::move(s));
+        const Status s = r.write_errors ? Status{Error{"recorder: write errors in the last commit (see the log)"}} : Status{Done{}};
+        for (auto& done : r.batch.flushes) done->set_value(s);
+        if (locked_since_) unlocked();
+        return;
+    }
+    case Outcome::locked:
+        give_back(std::move(r.batch));
+        locked(r.error);
+        retry_at_ = Clock::now() + retry_pause;
+        return;
+    case Outcome::full:
+        give_back(std::move(r.batch));
+        full(r.error);
+        retry_at_ = Clock::now() + std::chrono::milliseconds(1000);
+        return;
+    case Outcome::not_begun:
+        give_back(std::move(r.batch));
+        retry_at_ = Clock::now() + std::chrono::milliseconds(1000);
+        return;
+    case Outcome::lost:
+        for (auto& [done, s] : r.finished) done->set_value(std::move(s));
+        for (auto& done : r.batch.flushes) done->set_value(Error{"recorder: commit failed: " + r.error});
+        retry_at_ = Clock::now() + std::chrono::milliseconds(1000);
+        return;
+    }
 }
 
 void Recorder::Writer::settle_waiters(const Status& s) {
@@ -364,7 +369,7 @@ void Recorder::Writer::full(const std::string& why) {
         return false;
     });
     backlog_size_ = 256 * backlog_.size();  // what is left is small records
-    backlog_bytes.store(backlog_size_, std::memory_order_relaxed);
+    show_backlog();
     chunk_.clear();
     chunk_dirty_ = false;
     raw_.clear();
@@ -382,7 +387,7 @@ void Recorder::Writer::give_up_at_stop() {
     const auto until = Clock::now() + std::chrono::seconds(2);
     while (locked_since_ && Clock::now() < until) {
         std::this_thread::sleep_for(retry_pause);
-        (void)commit();
+        commit_now();
     }
     if (!locked_since_) return;
     write_errors.fetch_add(1, std::memory_order_relaxed);

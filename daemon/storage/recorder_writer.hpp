@@ -1,14 +1,17 @@
-// The recorder's writer thread (internal to the recorder). Owns its own Store
-// connection; takes everything from the inbox into a backlog of writes in
-// memory, and on the commit interval (sooner for state changes, flushes and
-// run ends, and at stop) writes the backlog and the open chunk in one
-// transaction.
+// The recorder's writer thread (internal to the recorder). Takes everything
+// from the inbox into a backlog of writes in memory (frames packed into
+// chunks), and on the commit interval (sooner for state changes, flushes and
+// run ends, and at stop) hands the backlog and the open chunk to the
+// committer thread, which writes them in one transaction on the recorder's own
+// Store connection. While the disk works the writer goes on taking and
+// packing, so a slow commit never stops the inbox from draining.
 //
-// Error policy: the backlog is cleared only by a commit that succeeded. Another
-// process's lock (SQLITE_BUSY / SQLITE_LOCKED) rolls the transaction back and
-// keeps the whole backlog for the next try, with an alarm; memory stays
-// bounded by `backlog_bytes` plus the inbox. Any other failed write is logged
-// and counted (write_errors), and the writer goes on with the next data.
+// Error policy: a batch leaves memory only once committed. Another process's
+// lock (SQLITE_BUSY / SQLITE_LOCKED) rolls the transaction back and the batch
+// comes back whole, ahead of what was taken since, with an alarm; memory stays
+// bounded by `backlog_bytes` (writer and committer each) plus the inbox. Any
+// other failed write is logged and counted (write_errors), and the writer goes
+// on with the next data.
 #pragma once
 
 #include <atomic>
@@ -16,9 +19,10 @@
 #include <future>
 #include <map>
 #include <optional>
-#include <variant>
 #include <vector>
 
+#include "batch_committer.hpp"
+#include "commit_batch.hpp"
 #include "recorder.hpp"
 #include "store.hpp"
 
@@ -43,12 +47,6 @@ private:
         RawChunk chunk;
         std::optional<double> first_s, last_s;
     };
-    // Writes waiting for the next commit, in the order they were pushed.
-    struct RawWrite { std::int64_t run; RawChunk chunk; std::optional<double> first_s, last_s; };
-    struct EventWrite { std::int64_t run; Event event; };
-    using Write = std::variant<FrameChunkRow, RawWrite, EventWrite, AlarmRecord, CounterRecord, StateWrite, FinishRun>;
-    enum class Outcome { committed, locked, failed };
-
     void handle(Message& m);
     void full(const std::string& why);
     void take_frames(std::span<const Frame> frames);
@@ -57,8 +55,12 @@ private:
     void write_raw(RawBuffer& buffer);  // moves a raw buffer to the backlog
     void close_run();
     void queue(Write w, std::size_t bytes);
-    Outcome commit();
-    Status apply(const Write& w);
+    void hand_off();                        // the backlog to the committer, when it is idle
+    void commit_now();                      // hand off and wait for the outcome (stop, a new run)
+    void settle(CommitResult result);       // counters, waiters, alarms; a batch handed back rejoins the backlog
+    void give_back(CommitBatch batch);
+    void wait_committer();                  // settles the batch in flight, if any
+    void show_backlog();
     void locked(const std::string& why);
     void unlocked();
     void settle_waiters(const Status& s);
@@ -68,7 +70,6 @@ private:
     void alarm(std::string kind, std::string message);
     double wall_now() const;
 
-    Store store_;
     const RecorderOptions& options_;
     RecorderInbox& inbox_;
     std::atomic<std::uint64_t>& raw_in_flight_;
@@ -76,7 +77,8 @@ private:
 
     std::vector<Write> backlog_;
     std::size_t backlog_size_ = 0;   // bytes held by backlog_
-    std::vector<std::shared_ptr<std::promise<Status>>> flushes_;  // settled by the next commit
+    std::size_t in_flight_size_ = 0; // bytes held by the batch the committer writes
+    std::vector<Waiter> flushes_;    // settled by the next commit
     bool commit_now_ = false;        // a state change, flush or run end is waiting
     std::optional<Clock::time_point> locked_since_;
     std::uint64_t drops_at_lock_ = 0;
@@ -93,6 +95,8 @@ private:
     std::uint64_t reported_frame_drops_ = 0, reported_message_drops_ = 0;
     Clock::time_point next_commit_;
     Clock::time_point next_disk_check_;
+    Clock::time_point retry_at_{};   // after a failed commit, the next try waits until then
+    BatchCommitter committer_;       // last: its thread starts once the rest is set up
 };
 
 }  // namespace tensile::storage

@@ -3,7 +3,10 @@
 // stored size of the frames against sqlite3's plain CSV import of the same
 // frames. Demo data from our own scenario: a 1 kHz-style text rig with values
 // parsed from fixed decimals, noise, an extensometer removed half-way and a
-// fracture. Usage: storage_ingest [frames] [work-dir]
+// fracture. With `--raw`, each batch of frames also comes with its wire
+// bytes (one text line per frame, as a delimited-lines device sends them),
+// the way a live rig records them for re-parsing.
+// Usage: storage_ingest [frames] [work-dir] [--raw]
 #include <charconv>
 #include <chrono>
 #include <cmath>
@@ -12,6 +15,7 @@
 #include <filesystem>
 #include <fstream>
 #include <random>
+#include <span>
 #include <string>
 #include <thread>
 #include <unistd.h>
@@ -51,15 +55,34 @@ std::int64_t scalar(Store& store, const char* sql) {
     return stmt->int64(0);
 }
 
+// The wire bytes of frames [from, to): one line per frame, three fields.
+std::string wire_lines(std::span<const Frame> frames) {
+    std::string out;
+    char buf[128];
+    for (const Frame& f : frames) {
+        const int len = std::snprintf(buf, sizeof buf, "%.3f;%.2f;%.4f\r\n", f.time_s, f.force_N,
+                                      std::isnan(f.extension_mm) ? f.crosshead_mm : f.extension_mm);
+        out.append(buf, static_cast<std::size_t>(len));
+    }
+    return out;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
-    const std::size_t n = argc > 1 ? std::strtoull(argv[1], nullptr, 10) : 2'000'000;
-    const std::filesystem::path dir = argc > 2 ? argv[2] : std::filesystem::temp_directory_path() / ("tensile-bench-" + std::to_string(::getpid()));
+    std::vector<std::string> args(argv + 1, argv + argc);
+    const bool with_raw = std::erase(args, "--raw") > 0;
+    const std::size_t n = !args.empty() ? std::strtoull(args[0].c_str(), nullptr, 10) : 2'000'000;
+    const std::filesystem::path dir = args.size() > 1 ? std::filesystem::path(args[1]) : std::filesystem::temp_directory_path() / ("tensile-bench-" + std::to_string(::getpid()));
     std::filesystem::create_directories(dir);
     const std::string db = (dir / "runs.db").string();
     std::filesystem::remove(db);
     const auto frames = demo_frames(n);
+    constexpr std::size_t batch_frames = 1024;
+    std::vector<std::string> wire;  // made before the clock starts: the bench times the recorder, not printf
+    if (with_raw)
+        for (std::size_t pos = 0; pos < n; pos += batch_frames)
+            wire.push_back(wire_lines(std::span<const Frame>(frames).subspan(pos, std::min(batch_frames, n - pos))));
 
     auto store = Store::open(db);
     if (!store) { std::fprintf(stderr, "%s\n", store.error().c_str()); return 1; }
@@ -77,13 +100,22 @@ int main(int argc, char** argv) {
     // Push in acquisition-sized batches; when the inbox is full, wait and retry,
     // so the figure is the sustained rate with no frame lost.
     std::size_t pos = 0;
+    std::uint64_t raw_bytes = 0;
     while (pos < n) {
-        const std::size_t batch = std::min<std::size_t>(1024, n - pos);
+        const std::size_t batch = std::min(batch_frames, n - pos);
         if ((*rec)->counters().frames_waiting + batch > opts.frame_capacity) {
             std::this_thread::yield();
             continue;
         }
-        pos += (*rec)->try_push(std::span<const Frame>(frames).subspan(pos, batch));
+        if (with_raw) {
+            const std::string& bytes = wire[pos / batch_frames];
+            const double arrival_s = frames[pos].time_s;
+            while (!(*rec)->try_push_raw("force", bytes, arrival_s)) std::this_thread::yield();
+            raw_bytes += bytes.size();
+        }
+        const std::size_t taken = (*rec)->try_push(std::span<const Frame>(frames).subspan(pos, batch));
+        if (taken != batch) { std::fprintf(stderr, "frames refused after their raw bytes went in\n"); return 1; }
+        pos += taken;
     }
     if (auto s = (*rec)->flush(); !s) { std::fprintf(stderr, "%s\n", s.error().c_str()); return 1; }
     const double secs = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
@@ -134,6 +166,10 @@ int main(int argc, char** argv) {
     std::printf("ingest into durable storage    %.0f frames/s (%.3f s; %llu committed, %llu dropped, %llu commits)\n",
                 static_cast<double>(n) / secs, secs, static_cast<unsigned long long>(c.frames_committed),
                 static_cast<unsigned long long>(c.frames_dropped), static_cast<unsigned long long>(c.commits));
+    if (with_raw)
+        std::printf("raw bytes                      %llu (%.1f bytes/frame; %llu written)\n",
+                    static_cast<unsigned long long>(raw_bytes), static_cast<double>(raw_bytes) / static_cast<double>(n),
+                    static_cast<unsigned long long>(c.raw_bytes_written));
     std::printf("frame BLOBs                    %lld bytes (%.2f bytes/frame)\n", static_cast<long long>(blob_bytes),
                 static_cast<double>(blob_bytes) / static_cast<double>(n));
     std::printf("our database file              %ju bytes\n", ours_file);
