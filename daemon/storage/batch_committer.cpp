@@ -80,7 +80,8 @@ void BatchCommitter::loop() {
 
 Status BatchCommitter::apply(const Write& w) {
     if (const auto* row = std::get_if<FrameChunkRow>(&w)) return store_.write_frame_chunk(*row);
-    if (const auto* raw = std::get_if<RawWrite>(&w)) return store_.write_raw_chunk(raw->run, raw->chunk, raw->first_s, raw->last_s);
+    if (const auto* raw = std::get_if<RawWrite>(&w)) 
+        return store_.write_packed_raw(raw->run, raw->source, raw->seq, raw->packed, raw->first_s, raw->last_s);
     if (const auto* e = std::get_if<EventWrite>(&w)) return store_.add_event(e->run, e->event);
     if (const auto* a = std::get_if<AlarmRecord>(&w)) return store_.add_alarm(*a);
     if (const auto* c = std::get_if<CounterRecord>(&w)) return store_.add_counter(*c);

@@ -20,7 +20,13 @@
 
 namespace tensile::storage {
 
-struct RawWrite { std::int64_t run; RawChunk chunk; std::optional<double> first_s, last_s; };
+struct RawWrite {
+    std::int64_t run;
+    std::string source;
+    std::int64_t seq;
+    PackedRaw packed;  // packed on the writer thread, so the backlog holds the small form
+    std::optional<double> first_s, last_s;
+};
 struct EventWrite { std::int64_t run; Event event; };
 using Write = std::variant<FrameChunkRow, RawWrite, EventWrite, AlarmRecord, CounterRecord, StateWrite, FinishRun>;
 using Waiter = std::shared_ptr<std::promise<Status>>;

@@ -58,7 +58,9 @@ struct RecorderOptions {
     OpenOptions open;
     std::size_t frame_capacity = 1u << 17;         // frames waiting for the writer
     std::size_t message_capacity = 8192;           // raw pieces, events, alarms, counters waiting
-    std::size_t raw_bytes_in_flight = 32u << 20;   // raw bytes waiting, all sources together
+    // Raw bytes waiting, all sources together: over 100 ms of a flat-out text
+    // stream, minutes of a real one; the writer drains them while commits run.
+    std::size_t raw_bytes_in_flight = 8u << 20;
     std::size_t chunk_frames = 4096;
     std::size_t raw_chunk_bytes = 256u << 10;
     std::chrono::milliseconds commit_interval{200};
@@ -69,7 +71,10 @@ struct RecorderOptions {
     // free-space guard sees it, stops recording like the guard does.
     std::uint64_t max_database_bytes = 0;
     std::chrono::milliseconds disk_check_interval{1000};
-    std::size_t backlog_bytes = 32u << 20;         // written data held while the database is locked
+    // Packed data held while the database is locked (raw bytes packed about
+    // 4x): about 100 s of a 10 kHz three-channel text rig. The committer may
+    // hold one more batch of up to this size, so the bound is twice it.
+    std::size_t backlog_bytes = 12u << 20;
     std::shared_ptr<spdlog::logger> log;           // may be null: no logging
     // Called on the writer thread with each alarm it raises (kind, message); may be empty.
     std::function<void(const std::string&, const std::string&)> notify;

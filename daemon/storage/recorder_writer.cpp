@@ -207,8 +207,9 @@ void Recorder::Writer::write_raw(RawBuffer& buf) {
     if (!run_ || buf.chunk.bytes.empty()) return;
     auto it = raw_seq_.try_emplace(buf.chunk.source, 0).first;  // numbered from what begin_run found stored
     buf.chunk.seq = it->second++;
-    const std::size_t size = buf.chunk.bytes.size() + 16 * buf.chunk.arrivals.size() + 64;
-    queue(RawWrite{*run_, std::move(buf.chunk), buf.first_s, buf.last_s}, size);
+    PackedRaw packed = pack_raw(buf.chunk);
+    const std::size_t size = packed.bytes.size() + packed.arrivals.size() + 64;
+    queue(RawWrite{*run_, buf.chunk.source, buf.chunk.seq, std::move(packed), buf.first_s, buf.last_s}, size);
     buf.chunk = RawChunk{};
     buf.chunk.source = it->first;
     buf.first_s.reset();
@@ -290,7 +291,7 @@ void Recorder::Writer::settle(CommitResult r) {
         frames_committed.fetch_add(r.batch.frames, std::memory_order_relaxed);
         for (const Write& w : r.batch.writes)
             if (const auto* raw = std::get_if<RawWrite>(&w))
-                raw_bytes_written.fetch_add(raw->chunk.bytes.size(), std::memory_order_relaxed);
+                raw_bytes_written.fetch_add(raw->packed.plain_bytes, std::memory_order_relaxed);
         for (auto& [done, s] : r.finished) done->set_value(std::move(s));
         const Status s = r.write_errors ? Status{Error{"recorder: write errors in the last commit (see the log)"}} : Status{Done{}};
         for (auto& done : r.batch.flushes) done->set_value(s);
@@ -363,7 +364,7 @@ void Recorder::Writer::full(const std::string& why) {
     std::erase_if(backlog_, [&](const Write& w) {
         if (std::holds_alternative<FrameChunkRow>(w)) return true;
         if (const auto* r = std::get_if<RawWrite>(&w)) {
-            raw_bytes_refused.fetch_add(r->chunk.bytes.size(), std::memory_order_relaxed);
+            raw_bytes_refused.fetch_add(r->packed.plain_bytes, std::memory_order_relaxed);
             return true;
         }
         return false;

@@ -113,6 +113,10 @@ CREATE TABLE verifications (
 );
 CREATE INDEX verifications_by_run ON verifications(run_id);
 )sql",
+    // 3: raw chunks are packed (raw_chunk.hpp); rows written before stay plain.
+    R"sql(
+ALTER TABLE raw_chunks ADD COLUMN codec TEXT NOT NULL DEFAULT 'plain';
+)sql",
 };
 
 // Creates the file owner-only before SQLite sees it; SQLite then gives its

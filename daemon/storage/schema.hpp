@@ -23,7 +23,7 @@ struct OpenOptions {
     int busy_timeout_ms = 5000;  // other connections hold the write lock for one commit at most
 };
 
-inline constexpr int schema_version = 2;
+inline constexpr int schema_version = 3;
 
 Result<Db> open_database(const std::string& path, const OpenOptions& options = {});
 

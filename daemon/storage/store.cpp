@@ -168,12 +168,17 @@ Status Store::write_frame_chunk(const FrameChunkRow& row) {
 }
 
 Status Store::write_raw_chunk(std::int64_t run, const RawChunk& chunk, std::optional<double> first_s, std::optional<double> last_s) {
+    return write_packed_raw(run, chunk.source, chunk.seq, pack_raw(chunk), first_s, last_s);
+}
+
+Status Store::write_packed_raw(std::int64_t run, const std::string& source, std::int64_t seq, const PackedRaw& packed,
+                               std::optional<double> first_s, std::optional<double> last_s) {
     auto stmt = cached(insert_raw,
-                       "INSERT INTO raw_chunks (run_id, source, seq, first_time_s, last_time_s, bytes, arrivals) "
-                       "VALUES (?, ?, ?, ?, ?, ?, ?)");
+                       "INSERT INTO raw_chunks (run_id, source, seq, first_time_s, last_time_s, bytes, arrivals, codec) "
+                       "VALUES (?, ?, ?, ?, ?, ?, ?, ?)");
     if (!stmt) return Error{stmt.error()};
-    (*stmt)->bind(1, run).bind(2, chunk.source).bind(3, chunk.seq).bind(4, first_s).bind(5, last_s);
-    (*stmt)->bind_blob(6, chunk.bytes).bind_blob(7, encode_arrivals(chunk.arrivals));
+    (*stmt)->bind(1, run).bind(2, source).bind(3, seq).bind(4, first_s).bind(5, last_s);
+    (*stmt)->bind_blob(6, packed.bytes).bind_blob(7, packed.arrivals).bind(8, packed.codec);
     return (*stmt)->run();
 }
 

@@ -55,6 +55,9 @@ public:
     Status write_finish(std::int64_t run, RunState state, const std::string& cause, double unix_s);
     Status write_frame_chunk(const FrameChunkRow& row);  // insert or replace (run, seq)
     Status write_raw_chunk(std::int64_t run, const RawChunk& chunk, std::optional<double> first_s, std::optional<double> last_s);
+    // A chunk already packed (the recorder packs on its writer thread).
+    Status write_packed_raw(std::int64_t run, const std::string& source, std::int64_t seq, const PackedRaw& packed,
+                            std::optional<double> first_s, std::optional<double> last_s);
     Status add_event(std::int64_t run, const Event& event);
     Status add_alarm(const AlarmRecord& alarm);
     Status add_counter(const CounterRecord& counter);

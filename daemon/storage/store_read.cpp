@@ -173,7 +173,7 @@ Result<std::vector<Frame>> Store::load_frames(std::int64_t run, double from_s, d
 }
 
 Status Store::for_each_raw_chunk(std::int64_t run, const std::function<void(const RawChunk&)>& visit) {
-    auto stmt = db_.prepare("SELECT source, seq, bytes, arrivals FROM raw_chunks WHERE run_id = ? ORDER BY source, seq");
+    auto stmt = db_.prepare("SELECT source, seq, bytes, arrivals, codec FROM raw_chunks WHERE run_id = ? ORDER BY source, seq");
     if (!stmt) return Error{stmt.error()};
     stmt->bind(1, run);
     for (;;) {
@@ -183,10 +183,8 @@ Status Store::for_each_raw_chunk(std::int64_t run, const std::function<void(cons
         RawChunk chunk;
         chunk.source = stmt->text(0);
         chunk.seq = stmt->int64(1);
-        chunk.bytes = std::string(stmt->blob(2));
-        auto arrivals = decode_arrivals(stmt->blob(3), chunk.bytes.size());
-        if (!arrivals) return Error{"run " + std::to_string(run) + ", raw chunk " + chunk.source + "/" + std::to_string(chunk.seq) + ": " + arrivals.error()};
-        chunk.arrivals = std::move(*arrivals);
+        if (auto s = unpack_raw(stmt->text(4), stmt->blob(2), stmt->blob(3), chunk); !s)
+            return Error{"run " + std::to_string(run) + ", raw chunk " + chunk.source + "/" + std::to_string(chunk.seq) + ": " + s.error()};
         visit(chunk);
     }
 }

@@ -70,7 +70,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
                 if (storage_alarm) storage_alarm(kind, message);
             });
         },
-        32, config.max_database_mb);
+        12, config.max_database_mb);
     tensile::RigService rig(io, config, log);
     std::unique_ptr<tensile::DemoRig> demo_rig;
     if (demo) {

@@ -36,7 +36,7 @@ public:
     // `notify` hears the recorder's alarms (database locked...) on the writer
     // thread; pass it on to the control thread.
     RunKeeper(const std::filesystem::path& database, double min_free_mb, std::shared_ptr<spdlog::logger> log,
-              Notify notify = {}, std::size_t backlog_mb = 32, double max_database_mb = 0);
+              Notify notify = {}, std::size_t backlog_mb = 12, double max_database_mb = 0);
     ~RunKeeper();
 
     // Whether a new run could be stored now: the write lock is free (waits

@@ -178,7 +178,9 @@ VerifyReport verify_run(storage::Store& store, std::int64_t run, const VerifyOpt
         report.integrity_checked = true;
         auto now = store.compute_digest(run);
         report.integrity_ok = now && *now == rec->summary.digest_sha256;
-        if (!report.integrity_ok)
+        if (!now)
+            report.notes.push_back("the run's stored data can no longer be read: " + now.error());
+        else if (!report.integrity_ok)
             report.notes.push_back("the run's raw bytes or frames changed after it was stored (SHA-256 differs)");
     } else {
         report.notes.push_back("no digest stored with the run: integrity not checked");
