@@ -166,16 +166,26 @@ void RigService::on_frames(const std::vector<drivers::AlignedFrame>& frames, dou
             for (const auto& f : frames) observers_.on_idle_frame(f);
         return;
     }
+    // A read can hold many frames. The frame that makes an event, a state
+    // change or a request is acted on at once (logged, commands written,
+    // observers told), not after the rest of the read: the reaction time is
+    // from that frame's arrival, whatever follows it.
     step_.clear();
-    for (const auto& f : frames) controller_.on_frame(f.frame, step_);
-    const bool made_events = !step_.events.empty();
-    after_step();
-    if (made_events) {
-        constexpr std::size_t kept = 4096;
-        const double latency = now_s() - arrival_s;
-        if (latencies_.size() < kept) latencies_.push_back(latency);
-        else latencies_[latency_next_++ % kept] = latency;
+    for (const auto& f : frames) {
+        controller_.on_frame(f.frame, step_);
+        if (step_.events.empty() && step_.transitions.empty() && step_.requests.empty()) continue;
+        const bool made_events = !step_.events.empty();
+        after_step();
+        if (made_events) note_latency(now_s() - arrival_s);
+        step_.clear();
     }
+    after_step();  // the rest of the read's frames, for the observers
+}
+
+void RigService::note_latency(double latency_s) {
+    constexpr std::size_t kept = 4096;
+    if (latencies_.size() < kept) latencies_.push_back(latency_s);
+    else latencies_[latency_next_++ % kept] = latency_s;
 }
 
 std::pair<double, double> RigService::event_latency_p50_p99() const {

@@ -89,6 +89,7 @@ public:
 
 private:
     void on_frames(const std::vector<drivers::AlignedFrame>& frames, double arrival_s);
+    void note_latency(double latency_s);
     void after_step();
     void carry_out(const Request& request);
     void schedule_tick();
