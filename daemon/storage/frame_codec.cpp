@@ -228,6 +228,7 @@ std::string encode_frames(std::span<const Frame> frames) {
         for (std::size_t i = 0; i < frames.size(); ++i) col[i] = frames[i].*member;
         encode_column(col, out);
     }
+    out.shrink_to_fit();  // chunks wait in the recorder's backlog: keep only what they hold
     return out;
 }
 

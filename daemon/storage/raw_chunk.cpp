@@ -22,12 +22,14 @@ constexpr unsigned long long max_unpacked = 256ull << 20;
 // Empty when zstd fails (it cannot with a full-size buffer, short of memory).
 std::string zstd_pack(std::string_view in) {
     thread_local std::unique_ptr<ZSTD_CCtx, decltype(&ZSTD_freeCCtx)> ctx(ZSTD_createCCtx(), &ZSTD_freeCCtx);
+    // Packed into scratch, then copied at its size: the result waits in the
+    // backlog, and a string cut down by resize keeps the worst-case capacity.
+    thread_local std::string scratch;
     if (!ctx) return {};
-    std::string out(ZSTD_compressBound(in.size()), '\0');
-    const std::size_t n = ZSTD_compressCCtx(ctx.get(), out.data(), out.size(), in.data(), in.size(), zstd_level);
+    scratch.resize(ZSTD_compressBound(in.size()));
+    const std::size_t n = ZSTD_compressCCtx(ctx.get(), scratch.data(), scratch.size(), in.data(), in.size(), zstd_level);
     if (ZSTD_isError(n)) return {};
-    out.resize(n);
-    return out;
+    return scratch.substr(0, n);
 }
 
 Result<std::string> zstd_unpack(std::string_view in, const char* what) {
