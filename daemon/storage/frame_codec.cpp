@@ -67,102 +67,131 @@ int pick_k(Kind kind, std::span<const double> col) {
     return k_sel;
 }
 
+// A column's coding: the kind and order chosen, and the values split the
+// way they are written (regular values' integers, mask runs, exception runs).
 struct Plan {
     Kind kind = raw_bits;
     int k = 0;
     int order = 0;
     std::size_t cost = SIZE_MAX;
+    std::vector<std::uint64_t> qs;
+    std::vector<std::size_t> runs;
+    std::vector<std::pair<std::uint64_t, std::uint64_t>> exc;  // (repeat, bits)
 };
 
 std::uint64_t predict(int order, std::uint64_t p1, std::uint64_t p2) {
     return order == 0 ? 0 : order == 1 ? p1 : p1 + (p1 - p2);
 }
 
-// Cost of every order for one kind; updates `best` when cheaper. True when
-// every value fitted the kind (no exceptions).
-bool consider(Kind kind, int k, std::span<const double> col, Plan& best) {
+// Splits the column for one kind and costs every order; when one is cheaper
+// than `best`, `best` takes this split (so the values are quantised once, not
+// again when written). True when every value fitted the kind (no exceptions).
+bool consider(Kind kind, int k, std::span<const double> col, Plan& trial, Plan& best) {
+    trial.qs.clear();
+    trial.runs.clear();
+    trial.exc.clear();
     std::array<std::size_t, 3> cost{};
     std::array<std::uint64_t, 3> p1{}, p2{};
-    bool first = true;
     bool prev_regular = true;
-    std::size_t runs = 0, run_len = 0, mask_cost = 0;
-    std::size_t exc_cost = 0;
-    std::uint64_t last_exc = 0;
-    bool have_exc = false;
+    std::size_t run_len = 0, mask_cost = 0, exc_cost = 0;
     for (double v : col) {
         std::uint64_t q = 0;
         const bool reg = regular(kind, k, v, q);
-        if (reg != prev_regular) { mask_cost += varint_size(run_len); ++runs; run_len = 0; prev_regular = reg; }
+        if (reg != prev_regular) {
+            mask_cost += varint_size(run_len);
+            trial.runs.push_back(run_len);
+            run_len = 0;
+            prev_regular = reg;
+        }
         ++run_len;
         if (reg) {
+            const bool first = trial.qs.empty();
             for (int o = 0; o < 3; ++o) {
                 cost[o] += varint_size(zigzag(q - predict(o, p1[o], p2[o])));
                 p2[o] = first ? q : p1[o];
                 p1[o] = q;
             }
-            first = false;
-        } else if (!have_exc || bits_of(v) != last_exc) {
+            trial.qs.push_back(q);
+        } else if (!trial.exc.empty() && trial.exc.back().second == bits_of(v)) {
+            ++trial.exc.back().first;
+        } else {
+            trial.exc.emplace_back(1, bits_of(v));
             exc_cost += 9 + 1;  // a new exception run: bits and (usually one-byte) repeat
-            last_exc = bits_of(v);
-            have_exc = true;
         }
     }
-    mask_cost += varint_size(run_len) + varint_size(runs + 1);
-    for (int o = 0; o < 3; ++o) {
-        const std::size_t total = 2 + mask_cost + cost[o] + exc_cost;
-        if (total < best.cost) best = Plan{kind, k, o, total};
+    trial.runs.push_back(run_len);
+    mask_cost += varint_size(run_len) + varint_size(trial.runs.size());
+    const bool fits = trial.exc.empty();
+    int cheapest = 0;
+    for (int o = 1; o < 3; ++o)
+        if (cost[o] < cost[cheapest]) cheapest = o;
+    const std::size_t total = 2 + mask_cost + cost[cheapest] + exc_cost;
+    if (total < best.cost) {
+        best.kind = kind;
+        best.k = k;
+        best.order = cheapest;
+        best.cost = total;
+        std::swap(best.qs, trial.qs);
+        std::swap(best.runs, trial.runs);
+        std::swap(best.exc, trial.exc);
     }
-    return !have_exc;
+    return fits;
 }
+
+// Appends varints through a cursor into room made beforehand (a push_back
+// per byte was a fifth of the writer's time on a flat-out ingest).
+class VarintWriter {
+public:
+    VarintWriter(std::string& out, std::size_t most_values) : out_(out), at_(out.size()) {
+        out_.resize(at_ + most_values * 10);
+    }
+    ~VarintWriter() { out_.resize(at_); }
+    void put(std::uint64_t v) {
+        char* p = out_.data() + at_;
+        while (v >= 0x80) {
+            *p++ = static_cast<char>((v & 0x7f) | 0x80);
+            v >>= 7;
+        }
+        *p++ = static_cast<char>(v);
+        at_ = static_cast<std::size_t>(p - out_.data());
+    }
+
+private:
+    std::string& out_;
+    std::size_t at_;
+};
 
 void encode_column(std::span<const double> col, std::string& out) {
     // A grid that fits every value is as cheap as any other that does, and far
     // cheaper than differencing raw bits, so the first one found ends the
     // search: costing all three kinds made the encoder the recorder's
     // bottleneck on a flat-out ingest.
-    Plan best;
+    thread_local Plan best, trial;
+    best.cost = SIZE_MAX;
     bool all_fit = false;
     for (Kind kind : {decimal_div, grid_mul}) {
         const int k = pick_k(kind, col);
-        if (k >= 0 && consider(kind, k, col, best)) {
+        if (k >= 0 && consider(kind, k, col, trial, best)) {
             all_fit = true;
             break;
         }
     }
-    if (!all_fit) consider(raw_bits, 0, col, best);
+    if (!all_fit) consider(raw_bits, 0, col, trial, best);
     out.push_back(static_cast<char>(best.kind | (best.order << 4)));
     out.push_back(static_cast<char>(best.k));
-
-    std::vector<std::uint64_t> qs;
-    std::vector<std::size_t> runs;
-    std::vector<std::pair<std::uint64_t, std::uint64_t>> exc;  // (repeat, bits)
-    qs.reserve(col.size());
-    bool prev_regular = true;
-    std::size_t run_len = 0;
-    for (double v : col) {
-        std::uint64_t q = 0;
-        const bool reg = regular(best.kind, best.k, v, q);
-        if (reg != prev_regular) { runs.push_back(run_len); run_len = 0; prev_regular = reg; }
-        ++run_len;
-        if (reg) {
-            qs.push_back(q);
-        } else if (!exc.empty() && exc.back().second == bits_of(v)) {
-            ++exc.back().first;
-        } else {
-            exc.emplace_back(1, bits_of(v));
+    {
+        VarintWriter w(out, 1 + best.runs.size() + best.qs.size());
+        w.put(best.runs.size());
+        for (auto r : best.runs) w.put(r);
+        std::uint64_t p1 = 0, p2 = 0;
+        for (std::size_t i = 0; i < best.qs.size(); ++i) {
+            w.put(zigzag(best.qs[i] - predict(best.order, p1, p2)));
+            p2 = i == 0 ? best.qs[i] : p1;
+            p1 = best.qs[i];
         }
     }
-    runs.push_back(run_len);
-    put_varint(out, runs.size());
-    for (auto r : runs) put_varint(out, r);
-    std::uint64_t p1 = 0, p2 = 0;
-    for (std::size_t i = 0; i < qs.size(); ++i) {
-        put_varint(out, zigzag(qs[i] - predict(best.order, p1, p2)));
-        p2 = i == 0 ? qs[i] : p1;
-        p1 = qs[i];
-    }
-    put_varint(out, exc.size());
-    for (auto [repeat, bits] : exc) {
+    put_varint(out, best.exc.size());
+    for (auto [repeat, bits] : best.exc) {
         put_varint(out, repeat);
         put_u64(out, bits);
     }
