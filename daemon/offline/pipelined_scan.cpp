@@ -92,7 +92,7 @@ Result<TableInfo> scan_table_pipelined(std::string_view text, const TableLayout&
         queue.finish();
     });
     while (auto chunk = queue.pop()) {
-        for (const auto& f : *chunk) sink.take(f);
+        sink.take_all(*chunk);
         queue.recycle(std::move(*chunk));
     }
     reader.join();
