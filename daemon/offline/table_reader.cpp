@@ -167,7 +167,49 @@ Result<TableLayout> parse_column_spec(std::string_view spec, TableLayout layout)
     return layout;
 }
 
+namespace {
+
+// Gathers frames and hands them on a few hundred at a time (take_all), so a
+// sink that queues them for another thread pays one virtual call per batch,
+// not per row. Everything gathered is handed on before passed() and when the
+// read ends, so the sink sees the same frames in the same order as before.
+class Batch final : public FrameSink {
+public:
+    explicit Batch(FrameSink& sink) : sink_(sink) {}
+    void take(const Frame& f) override {
+        frames_[count_++] = f;
+        if (count_ == capacity) flush();
+    }
+    void passed(std::size_t offset) override {
+        flush();
+        sink_.passed(offset);
+    }
+    void flush() {
+        if (count_ > 0) sink_.take_all({frames_, count_});
+        count_ = 0;
+    }
+
+private:
+    static constexpr std::size_t capacity = 256;
+    FrameSink& sink_;
+    Frame frames_[capacity];
+    std::size_t count_ = 0;
+};
+
+Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Batch& sink);
+
+}  // namespace
+
 Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, FrameSink& sink) {
+    Batch batch(sink);
+    auto outcome = scan_rows(text, layout, batch);
+    batch.flush();  // on an error too: the sink sees the rows before it
+    return outcome;
+}
+
+namespace {
+
+Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Batch& sink) {
     TableInfo table;
     std::vector<std::string_view> cells;
     std::size_t pos = 0, line_no = 0;
@@ -324,6 +366,8 @@ Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, F
                           (decimal_comma ? ", decimal comma" : ""));
     return table;
 }
+
+}  // namespace
 
 Result<Table> read_table(std::string_view text, const TableLayout& layout) {
     struct Collect : FrameSink {
