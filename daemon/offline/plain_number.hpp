@@ -10,6 +10,7 @@
 // Reads only inside [p, end).
 #pragma once
 
+#include <cstddef>
 #include <cstdint>
 #include <cstring>
 
@@ -31,18 +32,16 @@ inline const char* read(const char* p, const char* end, char point, double& out)
     // Past 19 digits the mantissa wraps (defined for unsigned); more than 15
     // are refused below anyway.
     std::uint64_t mantissa = 0;
-    int digits = 0, fraction = -1;
-    for (; p < end; ++p) {
-        const unsigned d = static_cast<unsigned>(*p - '0');
-        if (d < 10) {
-            mantissa = mantissa * 10 + d;
-            ++digits;
-            fraction += fraction >= 0;
-        } else if (*p == point && fraction < 0) {
-            fraction = 0;
-        } else {
-            break;
-        }
+    // Whole part, then the fraction: two tight loops rather than one that
+    // asks about the point at every digit.
+    const char* const whole = p;
+    for (unsigned d; p < end && (d = static_cast<unsigned>(*p - '0')) < 10; ++p) mantissa = mantissa * 10 + d;
+    std::ptrdiff_t digits = p - whole, fraction = -1;
+    if (p < end && *p == point) {
+        const char* const first = ++p;
+        for (unsigned d; p < end && (d = static_cast<unsigned>(*p - '0')) < 10; ++p) mantissa = mantissa * 10 + d;
+        fraction = p - first;
+        digits += fraction;
     }
     if (digits > 15) return nullptr;
     if (digits == 0) {
