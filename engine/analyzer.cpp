@@ -44,8 +44,10 @@ void Analyzer::push(const Frame& frame, std::vector<Event>& events) {
     const std::size_t i = history_.size() - 1;
 
     if (std::isfinite(strain)) {
-        follow_modulus(i, events);
-        follow_yield(i, events);
+        // The tests that end the modulus and yield watches are made here, so
+        // the frames long past them (most of a run) skip the calls.
+        if (!modulus_locked_ || !all_offsets_found_) follow_modulus(i, events);
+        if (yield_watch_open(i)) follow_yield(i, events);
         follow_rate(i, events);
     }
     follow_max_force(i, events);
@@ -311,12 +313,14 @@ void Analyzer::scan_offsets(std::size_t from, std::size_t to, std::vector<Event>
                          std::all_of(total_found_.begin(), total_found_.end(), [](bool b) { return b; });
 }
 
+// Past the plastic strain where a yield point may start, with none found,
+// or after the end of yielding, there is nothing left to watch.
+bool Analyzer::yield_watch_open(std::size_t i) const {
+    return !(yield_.points() ? yield_.points()->end_index.has_value()
+                             : modulus_locked_ && plastic(i) > profile_.yield_max_plastic_pct / 100.0);
+}
+
 void Analyzer::follow_yield(std::size_t i, std::vector<Event>& events) {
-    // Past the plastic strain where a yield point may start, with none found,
-    // or after the end of yielding, there is nothing left to watch.
-    if (yield_.points() ? yield_.points()->end_index.has_value()
-                        : modulus_locked_ && plastic(i) > profile_.yield_max_plastic_pct / 100.0)
-        return;
     const bool eligible = modulus_ && history_.stress_MPa[i] > modulus_->low_MPa;
     switch (yield_.update(history_, i, eligible, plastic(i), force_noise_N() / geometry_.S0_mm2)) {
         case YieldDetector::Step::none: break;

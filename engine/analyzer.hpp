@@ -81,6 +81,7 @@ private:
     void lock_modulus(std::size_t i, std::vector<Event>& events);
     std::optional<ModulusFit> provisional_modulus(std::size_t n);
     void scan_offsets(std::size_t from, std::size_t to, std::vector<Event>& events);
+    [[nodiscard]] bool yield_watch_open(std::size_t i) const;
     void follow_yield(std::size_t i, std::vector<Event>& events);
     void follow_max_force(std::size_t i, std::vector<Event>& events);
     void follow_break(std::size_t i, std::vector<Event>& events);

@@ -1,14 +1,17 @@
 // Compaction of the analyzer's history; see history.hpp.
 #include "history.hpp"
 
+#include <algorithm>
 #include <cmath>
 
 namespace tensile {
 
 namespace {
 
-// Mean of the finite values in v[from, to); NaN when there are none.
-double finite_mean(const std::vector<double>& v, std::size_t from, std::size_t to) {
+// Mean of the finite values in v[from, to); NaN when there are none. One
+// row (a group of one) is copied as it is, NaN included.
+double finite_mean(const double* v, std::size_t from, std::size_t to) {
+    if (to - from == 1) return v[from];
     double sum = 0;
     std::size_t count = 0;
     for (std::size_t k = from; k < to; ++k)
@@ -17,6 +20,43 @@ double finite_mean(const std::vector<double>& v, std::size_t from, std::size_t t
             ++count;
         }
     return count ? sum / static_cast<double>(count) : NAN;
+}
+
+// Writes to out[0, groups) the finite means of the `groups` runs of `size`
+// values from v on (out may be v itself: out[g] is written only after every
+// run up to g has been read). Four runs are summed side by side, each in its
+// own order, so the sums are those finite_mean gives to the last bit; one
+// running sum alone would wait on the previous addition for every value.
+void group_means(const double* v, std::size_t groups, std::size_t size, double* out) {
+    std::size_t g = 0;
+    if (size > 1) {
+        for (; g + 4 <= groups; g += 4) {
+            const double* p0 = v + g * size;
+            const double *p1 = p0 + size, *p2 = p1 + size, *p3 = p2 + size;
+            double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+            std::size_t c0 = 0, c1 = 0, c2 = 0, c3 = 0;
+            const auto add = [](double x, double& sum, std::size_t& count) {
+                if (std::isfinite(x)) {
+                    sum += x;
+                    ++count;
+                }
+            };
+            for (std::size_t k = 0; k < size; ++k) {
+                add(p0[k], s0, c0);
+                add(p1[k], s1, c1);
+                add(p2[k], s2, c2);
+                add(p3[k], s3, c3);
+            }
+            const auto mean = [](double sum, std::size_t count) {
+                return count ? sum / static_cast<double>(count) : NAN;
+            };
+            out[g] = mean(s0, c0);
+            out[g + 1] = mean(s1, c1);
+            out[g + 2] = mean(s2, c2);
+            out[g + 3] = mean(s3, c3);
+        }
+    }
+    for (; g < groups; ++g) out[g] = finite_mean(v, g * size, (g + 1) * size);
 }
 
 }  // namespace
@@ -45,24 +85,43 @@ RowMap History::compact(std::size_t target, std::size_t keep) {
     const std::size_t first_single = (merged_rows_ + map.ratio - 1) / map.ratio;
     map.kept_at = first_single + (map.single_from - merged_rows_) / stride;
 
-    // Old row ranges of each new row, in order; new row j only reads old rows
-    // at or after j, so the merge runs in place.
-    auto each_group = [&](auto&& take) {
-        std::size_t j = 0;
-        for (std::size_t k = 0; k < merged_rows_; k += map.ratio) take(j++, k, std::min(k + map.ratio, merged_rows_));
-        for (std::size_t k = merged_rows_; k < map.single_from; k += stride) take(j++, k, k + stride);
-        for (std::size_t k = map.single_from; k < n; ++k) take(j++, k, k + 1);
-        return j;
-    };
-    std::size_t rows = 0;
+    // New row j only reads old rows at or after j, so the merge runs in
+    // place. Each column is done in three plain loops (the merged rows, the
+    // single rows grouped by `stride`, the kept rows moved down): this runs on
+    // the whole history every few hundred thousand frames of a long run, so it
+    // is kept to straight passes over memory. Sums run in row order, so the
+    // means are the same to the last bit however the loops are written.
+    const std::size_t groups = (map.single_from - merged_rows_) / stride;
+    const std::size_t rows = map.kept_at + (n - map.single_from);
     for (auto* v : {&time_s, &force_N, &strain, &stress_MPa, &extension_mm, &crosshead_mm}) {
-        rows = each_group([&](std::size_t j, std::size_t from, std::size_t to) {
-            (*v)[j] = to - from == 1 ? (*v)[from] : finite_mean(*v, from, to);
-        });
+        double* d = v->data();
+        std::size_t j = 0;
+        if (map.ratio == 1) {
+            j = merged_rows_;  // already in place
+        } else {
+            const std::size_t whole = merged_rows_ / map.ratio;
+            group_means(d, whole, map.ratio, d);
+            j = whole;
+            if (whole * map.ratio < merged_rows_) d[j++] = finite_mean(d, whole * map.ratio, merged_rows_);
+        }
+        group_means(d + merged_rows_, groups, stride, d + j);
+        j += groups;
+        std::copy(d + map.single_from, d + n, d + j);
         v->resize(rows);
     }
-    each_group([&](std::size_t j, std::size_t, std::size_t to) { running_max[j] = running_max[to - 1]; });
-    running_max.resize(rows);
+    {
+        double* m = running_max.data();
+        std::size_t j = 0;
+        if (map.ratio == 1) {
+            j = merged_rows_;
+        } else {
+            for (std::size_t k = 0; k < merged_rows_; k += map.ratio)
+                m[j++] = m[std::min(k + map.ratio, merged_rows_) - 1];
+        }
+        for (std::size_t g = 0; g < groups; ++g) m[j++] = m[merged_rows_ + (g + 1) * stride - 1];
+        std::copy(m + map.single_from, m + n, m + j);
+        running_max.resize(rows);
+    }
     stride_ = stride;
     merged_rows_ = map.kept_at;
     return map;

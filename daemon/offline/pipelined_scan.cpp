@@ -1,6 +1,7 @@
 // Two-thread table reading; see pipelined_scan.hpp.
 #include "pipelined_scan.hpp"
 
+#include <algorithm>
 #include <condition_variable>
 #include <deque>
 #include <mutex>
@@ -75,6 +76,17 @@ struct ChunkingSink : FrameSink {
             chunk = queue.fresh();
         }
     }
+    void take_all(std::span<const Frame> frames) override {
+        while (!frames.empty()) {
+            const std::size_t n = std::min(frames.size(), chunk_frames - chunk.size());
+            chunk.insert(chunk.end(), frames.begin(), frames.begin() + static_cast<std::ptrdiff_t>(n));
+            frames = frames.subspan(n);
+            if (chunk.size() == chunk_frames) {
+                queue.push(std::move(chunk));
+                chunk = queue.fresh();
+            }
+        }
+    }
     void flush() {
         if (!chunk.empty()) queue.push(std::move(chunk));
     }
@@ -92,7 +104,7 @@ Result<TableInfo> scan_table_pipelined(std::string_view text, const TableLayout&
         queue.finish();
     });
     while (auto chunk = queue.pop()) {
-        for (const auto& f : *chunk) sink.take(f);
+        sink.take_all(*chunk);
         queue.recycle(std::move(*chunk));
     }
     reader.join();

@@ -1,6 +1,8 @@
 // Delimited-text reader for recorded runs; see table_reader.hpp.
 #include "table_reader.hpp"
 
+#include "plain_number.hpp"
+
 #include <algorithm>
 #include <cctype>
 #include <charconv>
@@ -66,43 +68,12 @@ HeaderColumn understand(std::string_view raw) {
     return c;
 }
 
-// The common case without copying: a plain decimal number ("-123.4567")
-// ending at the separator or the row end. Digits go into an integer and one
-// exact division by a power of ten gives the correctly rounded value while the
-// digits fit in 2^53 (Clinger's fast path). False sends the cell to the
-// careful path.
+// The common case without copying: a plain decimal number (plain_number.hpp)
+// ending at the separator or `end`. False sends the cell to the careful path.
 inline bool parse_fast(const char* p, const char* end, char sep, bool decimal_comma, double& out, const char*& stop) {
-    static constexpr double powers[] = {1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
-                                        1e12, 1e13, 1e14, 1e15};
-    const char point = decimal_comma ? ',' : '.';
-    bool negative = false;
-    if (p < end && *p == '-') {
-        negative = true;
-        ++p;
-    }
-    std::uint64_t mantissa = 0;
-    int digits = 0, fraction = -1;
-    for (; p < end; ++p) {
-        const unsigned d = static_cast<unsigned>(*p - '0');
-        if (d < 10) {
-            mantissa = mantissa * 10 + d;
-            ++digits;
-            fraction += fraction >= 0;
-        } else if (*p == point && fraction < 0) {
-            fraction = 0;
-        } else {
-            break;
-        }
-    }
-    if ((p < end && *p != sep) || digits > 15) return false;
-    if (digits == 0) {
-        if (negative || fraction >= 0) return false;
-        out = absent;  // an empty cell
-    } else {
-        const double v = static_cast<double>(mantissa) / powers[fraction < 0 ? 0 : fraction];
-        out = negative ? -v : v;
-    }
-    stop = p;
+    const char* q = plain_number::read(p, end, decimal_comma ? ',' : '.', out);
+    if (!q || (q < end && *q != sep)) return false;
+    stop = q;
     return true;
 }
 
@@ -137,6 +108,41 @@ const char* quantity_name(Quantity q) {
     return "?";
 }
 
+// A plain data row read straight from the text, without finding its end
+// first: every wanted cell a plain number (or empty) ending at the separator,
+// the row ending at '\n', "\r\n" or the end of the text, extra columns
+// skipped. Returns where the next row starts (text.size() + 1 at the end, as
+// the careful path counts), or 0 when the row needs the careful path, which
+// reads it again and names any fault.
+std::size_t fast_row(std::string_view text, std::size_t pos, char sep, char point,
+                     const std::vector<int>& quantity_at, double* const dest[4]) {
+    const char* p = text.data() + pos;
+    const char* const end = text.data() + text.size();
+    const std::size_t wanted = quantity_at.size();
+    for (std::size_t column = 0; column < wanted; ++column) {
+        if (column > 0) {
+            if (p == end || *p != sep) return 0;
+            ++p;
+        }
+        const int q = quantity_at[column];
+        if (q < 0) {
+            while (p < end && *p != sep && *p != '\n') ++p;
+            continue;
+        }
+        p = plain_number::read(p, end, point, *dest[q]);
+        if (!p) return 0;
+    }
+    if (p == end) return text.size() + 1;
+    if (*p == '\n') return static_cast<std::size_t>(p + 1 - text.data());
+    if (*p == '\r') {
+        if (p + 1 == end) return text.size() + 1;
+        return p[1] == '\n' ? static_cast<std::size_t>(p + 2 - text.data()) : 0;
+    }
+    if (*p != sep) return 0;
+    const void* nl = std::memchr(p, '\n', static_cast<std::size_t>(end - p));
+    return nl ? static_cast<std::size_t>(static_cast<const char*>(nl) + 1 - text.data()) : text.size() + 1;
+}
+
 }  // namespace
 
 Result<TableLayout> parse_column_spec(std::string_view spec, TableLayout layout) {
@@ -161,7 +167,49 @@ Result<TableLayout> parse_column_spec(std::string_view spec, TableLayout layout)
     return layout;
 }
 
+namespace {
+
+// Gathers frames and hands them on a few hundred at a time (take_all), so a
+// sink that queues them for another thread pays one virtual call per batch,
+// not per row. Everything gathered is handed on before passed() and when the
+// read ends, so the sink sees the same frames in the same order as before.
+class Batch final : public FrameSink {
+public:
+    explicit Batch(FrameSink& sink) : sink_(sink) {}
+    void take(const Frame& f) override {
+        frames_[count_++] = f;
+        if (count_ == capacity) flush();
+    }
+    void passed(std::size_t offset) override {
+        flush();
+        sink_.passed(offset);
+    }
+    void flush() {
+        if (count_ > 0) sink_.take_all({frames_, count_});
+        count_ = 0;
+    }
+
+private:
+    static constexpr std::size_t capacity = 256;
+    FrameSink& sink_;
+    Frame frames_[capacity];
+    std::size_t count_ = 0;
+};
+
+Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Batch& sink);
+
+}  // namespace
+
 Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, FrameSink& sink) {
+    Batch batch(sink);
+    auto outcome = scan_rows(text, layout, batch);
+    batch.flush();  // on an error too: the sink sees the rows before it
+    return outcome;
+}
+
+namespace {
+
+Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Batch& sink) {
     TableInfo table;
     std::vector<std::string_view> cells;
     std::size_t pos = 0, line_no = 0;
@@ -177,7 +225,34 @@ Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, F
     int wanted = 0;                 // the last column read
     std::vector<int> quantity_at;   // column → quantity read from it (-1: skipped)
 
+    // Scales a row's values into frame units and hands the frame on.
+    auto deliver = [&](Frame& f) {
+        if (col[0] == 0) f.time_s = static_cast<double>(table.frames) / *layout.rate_hz;
+        else f.time_s *= time_scale;
+        f.force_N *= force_scale;
+        f.extension_mm *= length_scale[0];
+        f.crosshead_mm *= length_scale[1];
+        sink.take(f);
+    };
+
     while (pos < text.size()) {
+        // Once the first data row has set the layout, rows that start with a
+        // number go the short way; anything else (comments, blank lines,
+        // quotes, bad cells) takes the careful path below.
+        if (table.frames > 0) {
+            const unsigned char c0 = static_cast<unsigned char>(text[pos]);
+            if (static_cast<unsigned>(c0 - '0') < 10u || c0 == '-' || c0 == '.') {
+                Frame f;
+                double* const dest[4] = {&f.time_s, &f.force_N, &f.extension_mm, &f.crosshead_mm};
+                if (const std::size_t next = fast_row(text, pos, sep, decimal_comma ? ',' : '.', quantity_at, dest)) {
+                    pos = next;
+                    ++line_no;
+                    deliver(f);
+                    if ((++table.frames & 0x3fff) == 0) sink.passed(pos);
+                    continue;
+                }
+            }
+        }
         const void* nl = std::memchr(text.data() + pos, '\n', text.size() - pos);
         const std::size_t end = nl ? static_cast<std::size_t>(static_cast<const char*>(nl) - text.data()) : text.size();
         std::string_view line = text.substr(pos, end - pos);
@@ -283,12 +358,7 @@ Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, F
                          std::to_string(wanted) + "; expected " + std::to_string(std::max<std::size_t>(width, wanted)) +
                          " columns as on the first line"};
         }
-        if (col[0] == 0) f.time_s = static_cast<double>(table.frames) / *layout.rate_hz;
-        else f.time_s *= time_scale;
-        f.force_N *= force_scale;
-        f.extension_mm *= length_scale[0];
-        f.crosshead_mm *= length_scale[1];
-        sink.take(f);
+        deliver(f);
         if ((++table.frames & 0x3fff) == 0) sink.passed(pos);
     }
     if (table.frames == 0) return Error{"no data rows: expected lines of numbers after an optional header"};
@@ -296,6 +366,8 @@ Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, F
                           (decimal_comma ? ", decimal comma" : ""));
     return table;
 }
+
+}  // namespace
 
 Result<Table> read_table(std::string_view text, const TableLayout& layout) {
     struct Collect : FrameSink {

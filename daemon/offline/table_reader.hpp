@@ -11,6 +11,7 @@
 #pragma once
 
 #include <optional>
+#include <span>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -46,6 +47,11 @@ class FrameSink {
 public:
     virtual ~FrameSink() = default;
     virtual void take(const Frame& frame) = 0;
+    // Several frames in order, as take() one by one would; a sink on a hot
+    // path overrides it to save a virtual call per frame.
+    virtual void take_all(std::span<const Frame> frames) {
+        for (const auto& f : frames) take(f);
+    }
     // Every few thousand rows: the text before `offset` has been read and
     // will not be looked at again (a reader of a mapped file may release it).
     virtual void passed(std::size_t /*offset*/) {}

@@ -165,6 +165,9 @@ struct AnalyzerSink : FrameSink {
     std::vector<Event>& events;
     AnalyzerSink(Analyzer& a, std::vector<Event>& e) : analyzer(a), events(e) {}
     void take(const Frame& f) override { analyzer.push(f, events); }
+    void take_all(std::span<const Frame> frames) override {
+        for (const auto& f : frames) analyzer.push(f, events);
+    }
 };
 
 // Hands frames to the analyzer and gives the mapped file's pages back as
@@ -176,6 +179,7 @@ struct ReleasingSink : FrameSink {
     MappedFile& file;
     ReleasingSink(FrameSink& s, MappedFile& f) : inner(s), file(f) {}
     void take(const Frame& f) override { inner.take(f); }
+    void take_all(std::span<const Frame> frames) override { inner.take_all(frames); }
     void passed(std::size_t offset) override {
         if (offset > margin) file.release_before(offset - margin);
     }

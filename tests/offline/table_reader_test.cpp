@@ -2,6 +2,13 @@
 // be refused with a message naming the line, the column and what was expected.
 #include <catch2/catch.hpp>
 
+#include <algorithm>
+#include <array>
+#include <cstdlib>
+#include <cstring>
+#include <string>
+#include <vector>
+
 #include "daemon/offline/table_reader.hpp"
 
 using namespace tensile;
@@ -82,4 +89,69 @@ TEST_CASE("bad input names the line, the column and what was expected") {
     auto spec = parse_column_spec("force=two");
     REQUIRE_FALSE(spec);
     CHECK_THAT(spec.error(), Catch::Contains("NAME=NUMBER"));
+}
+
+// Rows after the first take a shorter way through the reader; whatever way a
+// row takes, each value must be the double the C library's strtod gives for
+// the cell (correctly rounded, the independent reference here), and odd rows
+// (CRLF, quotes, spaces, exponents, signs, long mantissas, extra or skipped
+// columns, comments, a last line without its newline) must read as they did.
+TEST_CASE("every row reads to the value strtod gives for its cell, whichever way it is read") {
+    const std::vector<std::string> cells = {
+        "0",        "0.001000", "-0.000450", "29534.987", "5.",        ".5",       "-0.0",    "123456789012345",
+        "1.5e3",    "+2.5",     "\"7.25\"",  " 3.5",      "4.5 ",      "0.1234567890123456789", "99999999.99999",
+        "1.0000001", "-12345678.1234567", "100000000", "0.00000001"};
+    std::string text = "time_s,force_N,extension_mm,crosshead_mm,note\n0,1,2,3,x\n";
+    std::vector<std::array<std::string, 4>> rows;
+    for (std::size_t i = 0; i < 400; ++i) {
+        std::array<std::string, 4> r;
+        for (std::size_t c = 0; c < 4; ++c) r[c] = cells[(i * 7 + c * 5 + i / 19) % cells.size()];
+        rows.push_back(r);
+        text += r[0] + "," + r[1] + "," + r[2] + "," + r[3];
+        if (i % 3 == 0) text += ",extra";
+        text += i % 5 == 0 ? "\r\n" : "\n";
+        if (i % 97 == 0) text += "# a comment\n\n";
+    }
+    text += "7,8,9,10";  // no newline at the end
+    const auto t = read_table(text);
+    REQUIRE(t);
+    REQUIRE(t->frames.size() == rows.size() + 2);
+    auto expect = [](const std::string& cell) {
+        std::string s = cell;
+        s.erase(std::remove_if(s.begin(), s.end(), [](char ch) { return ch == '"' || ch == ' '; }), s.end());
+        return std::strtod(s.c_str(), nullptr);
+    };
+    for (std::size_t i = 0; i < rows.size(); ++i) {
+        const Frame& f = t->frames[i + 1];
+        const double got[4] = {f.time_s, f.force_N, f.extension_mm, f.crosshead_mm};
+        for (std::size_t c = 0; c < 4; ++c) {
+            INFO("row " << i << " column " << c << " cell '" << rows[i][c] << "'");
+            CHECK(std::memcmp(&got[c], &static_cast<const double&>(expect(rows[i][c])), sizeof(double)) == 0);
+        }
+    }
+    CHECK(t->frames.back().crosshead_mm == 10);
+
+    // Columns picked by number skip the ones between.
+    TableLayout layout;
+    layout.time_column = 1;
+    layout.force_column = 3;
+    const auto picked = read_table("0,x,1\n0.5,skip me,2.25\n1,,3.5\n", layout);
+    REQUIRE(picked);
+    REQUIRE(picked->frames.size() == 3);
+    CHECK(picked->frames[1].force_N == 2.25);
+    CHECK(picked->frames[2].force_N == 3.5);
+}
+
+TEST_CASE("a bad cell deep in a long file is named by its line and column") {
+    std::string text = "time_s,force_N,extension_mm\n";
+    for (int i = 0; i < 1000; ++i) text += std::to_string(i) + ".5,1" + std::to_string(i) + ",0.25\n";
+    for (const std::string bad : {"1.2.3", "-", ".", "--1", "1;5", "0x10"}) {
+        const auto r = read_table(text + "1000.5," + bad + ",0.25\n");
+        REQUIRE_FALSE(r);
+        CHECK_THAT(r.error(), Catch::Contains("line 1002") && Catch::Contains("column 2") &&
+                                  Catch::Contains("expected a decimal number"));
+    }
+    const auto short_row = read_table(text + "1000.5,7\n");
+    REQUIRE_FALSE(short_row);
+    CHECK_THAT(short_row.error(), Catch::Contains("line 1002") && Catch::Contains("2 columns"));
 }
