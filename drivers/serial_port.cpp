@@ -192,8 +192,8 @@ std::error_code SerialHandle::open_termios(const std::string& path, const Serial
     fd_ = fd;
     // One reader per port. A second reader of a tty does not get a copy: each
     // read takes the bytes it finds, so two readers would each get part of
-    // the stream and neither could tell (seen on a shared machine: a source
-    // of one process reading another's pty). The lock is advisory, so it
+    // the stream and neither could tell (a source retrying a pty path whose
+    // number another program now has did exactly that). The lock is advisory, so it
     // keeps our own readers apart; it goes with the descriptor.
     if (::flock(fd, LOCK_EX | LOCK_NB) != 0) {
         const int e = errno;

@@ -224,8 +224,8 @@ TEST_CASE("pty source: a virtual port that goes away and comes back is reopened,
 // Issue 4: a pty's number is handed to the next pty opened by any program.
 // A source that kept retrying /dev/pts/N after its pty hung up read the next
 // owner's stream, and a tty shares its bytes between its readers, so both
-// streams silently lost records (seen on the shared build machine: the
-// binary pty test lost 15,731 of 57,391 frames to one stale reader).
+// streams silently lost records (reproduced: one stale reader beside the
+// binary pty test cost it 15,731 of 57,391 frames, the pattern seen in CI).
 TEST_CASE("pty source: a pty that hung up is not reopened when its number comes back for another program", "[pty][serial][source]") {
     auto first = std::make_unique<Pty>();
     const std::string name = first->slave;
