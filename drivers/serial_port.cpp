@@ -3,6 +3,7 @@
 
 #include <fcntl.h>
 #include <libserialport.h>
+#include <sys/file.h>
 #include <sys/ioctl.h>
 #include <sys/stat.h>
 #include <sys/sysmacros.h>
@@ -86,6 +87,22 @@ bool is_pseudo_terminal(const std::string& path) {
     if (::stat(path.c_str(), &st) != 0 || !S_ISCHR(st.st_mode)) return false;
     // Unix98 pty slaves use character majors 136–143 (Linux devices.txt).
     return major(st.st_rdev) >= 136 && major(st.st_rdev) <= 143;
+}
+
+PortName port_name(const std::string& path) {
+    PortName n;
+    struct stat st {};
+    if (::lstat(path.c_str(), &st) != 0) return n;
+    n.exists = true;
+    n.link = S_ISLNK(st.st_mode);
+    n.inode = st.st_ino;
+    n.changed_ns = static_cast<long long>(st.st_ctim.tv_sec) * 1000000000LL + st.st_ctim.tv_nsec;
+    if (n.link) {
+        char target[PATH_MAX];
+        const ssize_t len = ::readlink(path.c_str(), target, sizeof target);
+        if (len > 0) n.target.assign(target, static_cast<std::size_t>(len));
+    }
+    return n;
 }
 
 SerialHandle& SerialHandle::operator=(SerialHandle&& o) noexcept {
@@ -173,6 +190,18 @@ std::error_code SerialHandle::open_termios(const std::string& path, const Serial
         return {e, std::generic_category()};
     }
     fd_ = fd;
+    // One reader per port. A second reader of a tty does not get a copy: each
+    // read takes the bytes it finds, so two readers would each get part of
+    // the stream and neither could tell (a source retrying a pty path whose
+    // number another program now has did exactly that). The lock is advisory, so it
+    // keeps our own readers apart; it goes with the descriptor.
+    if (::flock(fd, LOCK_EX | LOCK_NB) != 0) {
+        const int e = errno;
+        detail = path + ": in use by another reader (" + std::generic_category().message(e) +
+                 "); a port read twice gives each reader part of its bytes";
+        close();
+        return e == EWOULDBLOCK ? std::make_error_code(std::errc::device_or_resource_busy) : std::error_code{e, std::generic_category()};
+    }
     termios t{};
     if (::tcgetattr(fd, &t) != 0) {
         const int e = errno;

@@ -46,6 +46,21 @@ std::vector<PortInfo> list_serial_ports(std::string& error);
 // True when `path` (after following links) is a pseudo-terminal slave.
 bool is_pseudo_terminal(const std::string& path);
 
+// What a configured port name is, without following it: whether it is a link,
+// the link's inode, change time and target. A pty that hung up never comes
+// back under its name (the kernel hands the number to the next program that
+// opens a pty), so only a link re-pointed since, a new name, may be opened
+// again; comparing two of these tells whether that happened.
+struct PortName {
+    bool exists = false;
+    bool link = false;
+    unsigned long long inode = 0;
+    long long changed_ns = 0;
+    std::string target;
+    friend bool operator==(const PortName&, const PortName&) = default;
+};
+PortName port_name(const std::string& path);
+
 class SerialHandle {
 public:
     SerialHandle() = default;

@@ -29,6 +29,7 @@ SerialSource::SerialSource(asio::io_context& io, SerialSourceConfig cfg, std::sh
 void SerialSource::start(SourceHandlers handlers) {
     keeper_.set_handlers(std::move(handlers));
     running_ = true;
+    hung_up_name_.reset();  // started afresh: the configured name is taken as given
     if (keeper_.state() == SourceState::stopped) keeper_.change(SourceState::connecting, "to " + cfg_.path);
     open();
 }
@@ -50,8 +51,16 @@ void SerialSource::stop() {
 
 void SerialSource::open() {
     ++generation_;
+    if (hung_up_name_) {
+        const PortName now = port_name(cfg_.path);
+        if (!now.link || now == *hung_up_name_)
+            return fail(cfg_.path + ": the pseudo-terminal hung up and is not reopened under the same name, which the "
+                                    "next pty opened by any program may take; point the link at a new one or restart the source");
+        hung_up_name_.reset();
+    }
     std::string detail;
     if (const auto ec = handle_.open(cfg_.path, cfg_.settings, detail)) return fail(detail);
+    opened_name_ = port_name(cfg_.path);
     const int fd = ::dup(handle_.fd());
     if (fd < 0) return fail("dup failed");
     boost::system::error_code ec;
@@ -82,6 +91,7 @@ void SerialSource::read() {
 void SerialSource::fail(const std::string& reason) {
     if (!running_) return;
     ++generation_;
+    if (keeper_.state() == SourceState::connected && handle_.via_termios()) hung_up_name_ = opened_name_;
     close_port();
     sendq_.fail_all(io_, std::errc::not_connected);  // never replayed on a later connection
     keeper_.failed(reason);

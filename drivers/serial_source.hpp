@@ -2,12 +2,18 @@
 // for pseudo-terminals), read asynchronously on its file descriptor with an
 // Asio stream_descriptor. A port that fails (USB cable pulled, pty master
 // closed) is closed, reported as a gap, and reopened with capped backoff.
+// A pseudo-terminal is the exception: once it hangs up its name is dead (the
+// kernel gives the number to the next pty opened, by any program), so it is
+// reopened only through a link that has been re-pointed since; a source that
+// kept retrying /dev/pts/N would read another program's stream and take part
+// of its bytes. Only one reader per port (serial_port.hpp).
 // RTS/DTR can be driven while open (relay outputs). Never throws after
 // construction; errors become state changes, gaps and error codes.
 #pragma once
 
 #include <deque>
 #include <memory>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -58,6 +64,8 @@ private:
     LinkKeeper keeper_;
     Backoff backoff_;
     SerialHandle handle_;
+    PortName opened_name_;                  // the configured name as it was when the port opened
+    std::optional<PortName> hung_up_name_;  // set when a pty hung up: reopen only once the name differs
     boost::asio::posix::stream_descriptor stream_;
     boost::asio::steady_timer timer_;
     std::vector<std::byte> buf_;

@@ -220,3 +220,66 @@ TEST_CASE("pty source: a virtual port that goes away and comes back is reopened,
     io.run_for(std::chrono::milliseconds(10));
     ::unlink(link.c_str());
 }
+
+// Issue 4: a pty's number is handed to the next pty opened by any program.
+// A source that kept retrying /dev/pts/N after its pty hung up read the next
+// owner's stream, and a tty shares its bytes between its readers, so both
+// streams silently lost records (reproduced: one stale reader beside the
+// binary pty test cost it 15,731 of 57,391 frames, the pattern seen in CI).
+TEST_CASE("pty source: a pty that hung up is not reopened when its number comes back for another program", "[pty][serial][source]") {
+    auto first = std::make_unique<Pty>();
+    const std::string name = first->slave;
+    boost::asio::io_context io;
+    SerialSourceConfig cfg;
+    cfg.name = "stale";
+    cfg.path = name;
+    cfg.backoff = {0.02, 0.05, 0.2};
+    auto src = SerialSource::create(io, cfg);
+    const auto parser = builtin_formats().make(two_channels());
+    std::vector<Sample> samples;
+    std::vector<GapEvent> gaps;
+    src->start({[&](std::span<const std::byte> b, double) { parser->feed(b, samples); }, nullptr,
+                [&](const GapEvent& g) { gaps.push_back(g); }});
+    first->write("1000,1 N,0.1 mm\n");
+    REQUIRE(run_until(io, [&] { return samples.size() == 2; }));
+    first->close();
+    REQUIRE(run_until(io, [&] { return gaps.size() == 1; }));
+
+    // Another program opens ptys until one gets the freed number (the kernel
+    // gives the lowest free one, so the first, unless a parallel test took it).
+    std::vector<std::unique_ptr<Pty>> others;
+    while (others.size() < 16 && (others.empty() || others.back()->slave != name)) others.push_back(std::make_unique<Pty>());
+    REQUIRE(others.back()->slave == name);
+    others.back()->write("2000,2 N,0.2 mm\n");
+    io.restart();
+    io.run_for(std::chrono::milliseconds(400));  // eight backoff periods or more
+    CHECK(samples.size() == 2);                  // nothing of the other program's stream
+    CHECK(src->state() == SourceState::waiting);
+    // The bytes are still there for the pty's own reader.
+    const int own = ::open(name.c_str(), O_RDWR | O_NOCTTY | O_NONBLOCK);
+    REQUIRE(own >= 0);
+    termios t{};
+    ::tcgetattr(own, &t);
+    ::cfmakeraw(&t);
+    ::tcsetattr(own, TCSANOW, &t);
+    char buf[64];
+    ssize_t n = -1;
+    for (int i = 0; i < 100 && n <= 0; ++i, ::usleep(5000)) n = ::read(own, buf, sizeof buf);
+    CHECK(std::string(buf, static_cast<std::size_t>(std::max<ssize_t>(n, 0))) == "2000,2 N,0.2 mm\n");
+    ::close(own);
+    src->stop();
+    io.restart();
+    io.run_for(std::chrono::milliseconds(10));
+}
+
+TEST_CASE("serial handle: a port already read by another source is refused, naming why", "[pty][serial]") {
+    Pty pty;
+    SerialHandle a, b;
+    std::string detail;
+    REQUIRE_FALSE(a.open(pty.slave, SerialSettings{}, detail));
+    CHECK(b.open(pty.slave, SerialSettings{}, detail) == std::errc::device_or_resource_busy);
+    CHECK(detail.find("in use by another reader") != std::string::npos);
+    CHECK_FALSE(b.is_open());
+    a.close();
+    CHECK_FALSE(b.open(pty.slave, SerialSettings{}, detail));  // free again once the first has let go
+}
