@@ -31,6 +31,11 @@ bool BatchCommitter::has_result() const {
     return result_.has_value();
 }
 
+bool BatchCommitter::idle() const {
+    std::lock_guard lock(mutex_);
+    return !working_ && !result_.has_value();
+}
+
 void BatchCommitter::submit(CommitBatch batch) {
     {
         std::lock_guard lock(mutex_);

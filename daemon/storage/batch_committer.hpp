@@ -33,7 +33,8 @@ public:
 
     bool working() const;                    // a batch is being written
     bool has_result() const;                 // a result waits to be taken
-    void submit(CommitBatch batch);          // only when neither working nor holding a result
+    bool idle() const;                       // neither: a batch may be submitted
+    void submit(CommitBatch batch);          // only when idle (a waiting result would be overwritten)
     std::optional<CommitResult> take_result();  // never blocks
     CommitResult wait_result();              // blocks until the batch in flight is done
     Store& store();                          // only while idle: the writer's own look-ups

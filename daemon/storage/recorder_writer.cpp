@@ -91,7 +91,7 @@ void Recorder::Writer::run() {
         // After a failed try, the next one waits a little (a lock) or a second
         // (any other error), so a lasting fault neither spins nor floods the log.
         const bool due = commit_now_ || Clock::now() >= next_commit_;
-        if (due && !committer_.working() && Clock::now() >= retry_at_) hand_off();
+        if (due && committer_.idle() && Clock::now() >= retry_at_) hand_off();
     }
 }
 
