@@ -7,6 +7,7 @@
 #include <csignal>
 #include <fstream>
 #include <iostream>
+#include <optional>
 #include <sstream>
 
 #include <CLI/CLI.hpp>
@@ -14,6 +15,7 @@
 #include "commands.hpp"
 #include "links.hpp"
 #include "material_file.hpp"
+#include "port_link.hpp"
 #include "presets.hpp"
 #include "replay.hpp"
 #include "run.hpp"
@@ -88,7 +90,8 @@ int main(int argc, char** argv) {
                                   "channels on a connection of their own: CHANNELS[@RATE]=TARGET, TARGET being pty, "
                                   "tcp:HOST:PORT or file:PATH, e.g. force@1000=tcp:127.0.0.1:0 (repeatable)");
     app.add_option("--control", control_spec,
-                   "a command port beside the stream: tcp:HOST:PORT or pty; commands there are answered there "
+                   "a command port beside the stream: tcp:HOST:PORT, pty, or pty:LINK (a pty with LINK, a symbolic "
+                   "link re-pointed at it, as a stable name across restarts); commands there are answered there "
                    "(the way to command a binary stream)");
     o_out->excludes(o_tcp)->excludes(o_pty)->excludes(o_link);
     o_tcp->excludes(o_pty)->excludes(o_link);
@@ -192,8 +195,10 @@ int main(int argc, char** argv) {
     if (const auto why = check_links(links)) return refuse(*why);
     if (!links.empty() && rs.format == Format::table)
         return refuse("--link with --format table: the table is one aligned frame per line; expected lines, keyvalue or binary");
-    if (!control_spec.empty() && control_spec != "pty" && control_spec.substr(0, 4) != "tcp:")
-        return refuse("--control '" + control_spec + "'; expected tcp:HOST:PORT or pty");
+    const bool control_pty = control_spec == "pty" || control_spec.substr(0, 4) == "pty:";
+    if (!control_spec.empty() && !control_pty && control_spec.substr(0, 4) != "tcp:")
+        return refuse("--control '" + control_spec + "'; expected tcp:HOST:PORT, pty or pty:LINK");
+    if (control_spec == "pty:") return refuse("--control 'pty:': give the link's path after 'pty:'");
 
     // Every check is done: open the outputs, announcing each on stdout.
     std::vector<std::unique_ptr<Sink>> sinks;
@@ -228,9 +233,22 @@ int main(int argc, char** argv) {
     }
     rs.separate_links = !links.empty();
     std::unique_ptr<Sink> control;
-    if (!control_spec.empty()) {
-        auto c = control_spec == "pty" ? open_pty_sink(std::cout, "--control", "control")
-                                       : open_tcp_sink(control_spec.substr(4), std::cout, "--control", "control");
+    std::optional<PortLink> control_link;
+    if (control_pty) {
+        std::ostringstream announced;  // "pty /dev/pts/N control"
+        auto c = open_pty_sink(announced, "--control", "control");
+        if (!c) return refuse(c.error());
+        control = std::move(*c);
+        if (control_spec.size() > 4) {
+            const std::string line = announced.str();
+            const std::string name = line.substr(4, line.find(' ', 4) - 4);
+            auto link = PortLink::point(control_spec.substr(4), name);
+            if (!link) return refuse("--control '" + control_spec + "': " + link.error());
+            control_link.emplace(std::move(*link));
+        }
+        std::cout << announced.str() << std::flush;
+    } else if (!control_spec.empty()) {
+        auto c = open_tcp_sink(control_spec.substr(4), std::cout, "--control", "control");
         if (!c) return refuse(c.error());
         control = std::move(*c);
     }

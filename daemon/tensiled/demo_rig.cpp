@@ -51,10 +51,23 @@ std::vector<DemoSpecimen> list_demo_specimens(const std::filesystem::path& simul
     return out;
 }
 
+std::filesystem::path demo_control_port(const std::filesystem::path& data_dir) {
+    return std::filesystem::absolute(data_dir) / "demo-frame-control";
+}
+
+std::uint16_t demo_data_port(const DaemonConfig& config) {
+    for (const auto& s : config.drivers.sources)
+        if (s.name == "frame") return static_cast<std::uint16_t>(s.tcp.port);
+    throw std::runtime_error("demo config: no source named frame");
+}
+
 std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_t sim_port, std::uint16_t monitor_port,
                              double pace) {
     std::ostringstream t;
-    t << "# The embedded demo rig: tensile-sim on loopback TCP, commands on the same link.\n"
+    t << "# The embedded demo rig: tensile-sim streams force, extension and crosshead on\n"
+      << "# loopback TCP and takes the frame's commands (hold, resume, stop) on a serial\n"
+      << "# line, a pseudo-terminal reached through a link it re-points at each start,\n"
+      << "# as a frame controller's RS-232 port would be.\n"
       << "[daemon]\ndata_dir = \"" << data_dir.string() << "\"\n"
       << "[monitor]\nlisten = \"127.0.0.1\"\nport = " << monitor_port << "\n"
       << "[rig]\nname = \"demo-rig\"\ncommands = \"frame\"\n"
@@ -66,7 +79,9 @@ std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_
       << "  [[source.frame.channel]]\n  name = \"force\"\n  unit = \"N\"\n  field = 1\n"
       << "  [[source.frame.channel]]\n  name = \"extension\"\n  unit = \"mm\"\n  field = 2\n"
       << "  [[source.frame.channel]]\n  name = \"crosshead\"\n  unit = \"mm\"\n  field = 3\n"
-      << "[output.frame]\nkind = \"command\"\nsource = \"frame\"\n";
+      << "[source.frame-commands]\nkind = \"serial\"\npath = \"" << demo_control_port(data_dir).string() << "\"\n"
+      << "baud = 115200\nretry_min_ms = 100\nretry_max_ms = 500\nformat = \"control\"\n"
+      << "[output.frame]\nkind = \"command\"\nsource = \"frame-commands\"\n";
     return t.str();
 }
 
@@ -122,6 +137,7 @@ void DemoRig::spawn(const DemoSpecimen& s) {
     // operator arms first and then starts the frame.
     std::vector<std::string> args{simulator_.string(), "--material", s.material, "--tcp", endpoint, "--realtime",
                                   "--speed", speed, "--format", "lines", "--after-end", "2", "--at", "0:hold",
+                                  "--control", "pty:" + demo_control_port(data_dir_).string(),
                                   "--truth", (data_dir_ / ("demo-truth-" + std::to_string(next_) + ".json")).string()};
     if (fast_rate_hz_ > 0) {
         // Replace the pacing: --fast at the given sample rate.

@@ -33,7 +33,12 @@ struct DemoSpecimen {
 // Presets listed by the simulator (`tensile-sim --list-materials`). Throws std::runtime_error.
 std::vector<DemoSpecimen> list_demo_specimens(const std::filesystem::path& simulator);
 
-// The demo rig's config text (one TCP source on 127.0.0.1:port, commands on it).
+// The serial port (a link to the simulator's pty) the demo commands the frame on.
+std::filesystem::path demo_control_port(const std::filesystem::path& data_dir);
+// The TCP port of the demo config's data source ("frame").
+std::uint16_t demo_data_port(const DaemonConfig& config);
+// The demo rig's config text: a TCP data source on 127.0.0.1:port and the
+// command port above as a serial source of format control.
 // `pace`: simulated seconds per real second (the simulator's clock runs at it).
 std::string demo_config_text(const std::filesystem::path& data_dir, std::uint16_t sim_port, std::uint16_t monitor_port,
                              double pace = 1.0);

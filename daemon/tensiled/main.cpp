@@ -75,7 +75,7 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     std::unique_ptr<tensile::DemoRig> demo_rig;
     if (demo) {
         const auto sim = self.parent_path() / "tensile-sim";
-        const auto port = static_cast<std::uint16_t>(config.drivers.sources.front().tcp.port);
+        const auto port = tensile::demo_data_port(config);
         // Our demo scenario's running order: the yield-point steel first.
         auto queue = tensile::list_demo_specimens(sim);
         std::stable_sort(queue.begin(), queue.end(), [](const auto& a, const auto& b) {
@@ -179,8 +179,9 @@ int run_daemon(tensile::DaemonConfig config, bool demo, double demo_speed, std::
     if (service.watchdog_interval().count() > 0)
         log->info("systemd watchdog: pinging every {} ms", service.watchdog_interval().count() / 2000);
     if (demo_rig) {
-        std::cout << "demo: the simulator plays Harbourline Metals specimens on 127.0.0.1:"
-                  << config.drivers.sources.front().tcp.port << "; results print as each run ends. Ctrl-C to stop.\n"
+        std::cout << "demo: the simulator plays Harbourline Metals specimens, data on 127.0.0.1:"
+                  << tensile::demo_data_port(config) << ", commands on the serial line "
+                  << tensile::demo_control_port(config.data_dir).string() << "; results print as each run ends. Ctrl-C to stop.\n"
                   << std::flush;
         demo_rig->start();
     }

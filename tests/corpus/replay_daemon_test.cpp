@@ -48,7 +48,7 @@ public:
         int out[2];
         REQUIRE(::pipe2(out, O_CLOEXEC) == 0);
         const std::string exe = bin("tensile-sim");
-        std::vector<std::string> args{exe, "replay", "--db", db, "--run", std::to_string(run), "--tcp", "127.0.0.1:" + std::to_string(at_port), "--speed", "1"};
+        std::vector<std::string> args{exe, "replay", "--db", db, "--run", std::to_string(run), "--source", "frame", "--tcp", "127.0.0.1:" + std::to_string(at_port), "--speed", "1"};
         std::vector<char*> argv;
         for (auto& a : args) argv.push_back(a.data());
         argv.push_back(nullptr);

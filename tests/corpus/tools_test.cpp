@@ -257,12 +257,13 @@ TEST_CASE("tools: tensile-sim replay streams a stored run's bytes in their timin
     std::string stored_bytes;
     double first = INFINITY, last = -INFINITY;
     REQUIRE(store.for_each_raw_chunk(id, [&](const storage::RawChunk& c) {
+        if (c.source != "frame") return;  // the demo's data link (its commands go on a serial line beside it)
         stored_bytes += c.bytes;
         for (const auto& a : c.arrivals) first = std::min(first, a.time_s), last = std::max(last, a.time_s);
     }));
     REQUIRE(!stored_bytes.empty());
 
-    FILE* sim = popen((bin("tensile-sim") + " replay --db " + db().string() + " --run 1 --tcp 127.0.0.1:0 --speed 1").c_str(), "r");
+    FILE* sim = popen((bin("tensile-sim") + " replay --db " + db().string() + " --run 1 --source frame --tcp 127.0.0.1:0 --speed 1").c_str(), "r");
     REQUIRE(sim);
     char line[256] = {};
     REQUIRE(std::fgets(line, sizeof line, sim));
@@ -376,17 +377,23 @@ TEST_CASE("tools: tensile-sim replay refuses bad input with one message and exit
     CHECK_THAT(r.out, Catch::Contains("--tcp HOST:PORT, --pty or --out FILE"));
     r = run_command(bin("tensile-sim") + " replay --run 1 --out /dev/null");
     CHECK(r.code == 2);
+    // The demo's runs have a data link and a command line: which one is asked for.
+    r = run_command(bin("tensile-sim") + " replay --db " + db().string() + " --run 1 --out /dev/null");
+    CHECK(r.code == 2);
+    CHECK_THAT(r.out, Catch::Contains("several sources (frame, frame-commands)") && Catch::Contains("--source"));
     // --fast to a file: the same bytes, at once.
     const fs::path out = recorded() / "replayed.txt";
-    REQUIRE(run_command(bin("tensile-sim") + " replay --db " + db().string() + " --run 2 --fast --out " + out.string()).code == 0);
+    REQUIRE(run_command(bin("tensile-sim") + " replay --db " + db().string() + " --run 2 --source frame --fast --out " + out.string()).code == 0);
     CHECK(fs::file_size(out) > 10000);
 }
 
 TEST_CASE("tools: tensile-sim replay serves a stored run on a pseudo-terminal like a serial port") {
     auto store = open_db();
     std::string stored_bytes;
-    REQUIRE(store.for_each_raw_chunk(2, [&](const storage::RawChunk& c) { stored_bytes += c.bytes; }));
-    FILE* sim = popen((bin("tensile-sim") + " replay --db " + db().string() + " --run 2 --pty --fast").c_str(), "r");
+    REQUIRE(store.for_each_raw_chunk(2, [&](const storage::RawChunk& c) {
+        if (c.source == "frame") stored_bytes += c.bytes;
+    }));
+    FILE* sim = popen((bin("tensile-sim") + " replay --db " + db().string() + " --run 2 --source frame --pty --fast").c_str(), "r");
     REQUIRE(sim);
     char line[256] = {};
     REQUIRE(std::fgets(line, sizeof line, sim));

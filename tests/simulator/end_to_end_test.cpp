@@ -393,3 +393,39 @@ TEST_CASE("pty: a slow reader still gets every byte before the pty closes") {
     CHECK(got == expected);
     fs::remove_all(dir);
 }
+
+// The demo rig's command line: --control pty:LINK points a symbolic link at
+// the pty (a stable name, as udev's /dev/serial/by-id gives a USB adapter),
+// replacing an old link in one step; commands sent through the link are
+// answered there; the link goes with the simulator. A plain file in the way is
+// refused, never overwritten.
+TEST_CASE("pty control port behind a link: re-pointed at start, answered through it, removed at the end") {
+    const fs::path dir = scratch();
+    const fs::path link = dir / "frame-control";
+    fs::create_symlink("/dev/null", link);  // left by an earlier run
+    const pid_t pid = spawn({"--out", (dir / "stream.txt").string(), "--realtime", "--speed", "20", "--material",
+                             "harbourline-6061t6-lot12", "--control", "pty:" + link.string()},
+                            dir / "announce.txt");
+    const std::string announce = first_line_of(dir / "announce.txt");
+    REQUIRE_THAT(announce, Catch::StartsWith("pty /dev/") && Catch::EndsWith(" control"));
+    const std::string pty = announce.substr(4, announce.rfind(' ') - 4);
+    CHECK(fs::read_symlink(link) == pty);
+    const int fd = ::open(link.c_str(), O_RDWR | O_NOCTTY);
+    REQUIRE(fd >= 0);
+    const std::string ask = "ping\nstop\n";
+    REQUIRE(::write(fd, ask.data(), ask.size()) == static_cast<ssize_t>(ask.size()));
+    std::string seen;
+    read_until(fd, "#ok stop\n", seen);
+    CHECK(seen.find("#ok ping\n") != std::string::npos);
+    CHECK(seen.find("#ok stop\n") != std::string::npos);
+    ::close(fd);
+    CHECK(wait_exit(pid) == 0);
+    CHECK_FALSE(fs::is_symlink(fs::symlink_status(link)));
+
+    { std::ofstream(link) << "not a link"; }
+    const fs::path err = dir / "err.txt";
+    CHECK(run("--out /dev/null --fast --control pty:" + link.string(), err) == 2);
+    CHECK_THAT(slurp(err), Catch::Contains("is not a symbolic link"));
+    CHECK(slurp(link) == "not a link");
+    fs::remove_all(dir);
+}

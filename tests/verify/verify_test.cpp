@@ -81,7 +81,7 @@ TEST_CASE("stored data altered after the run closed is reported as changed") {
     const auto bytes = copy_of("bytes");
     // One raw chunk of run 1 gets every digit 5 turned into a 6.
     REQUIRE(sql(bytes, "UPDATE raw_chunks SET bytes = CAST(replace(CAST(bytes AS TEXT), '5', '6') AS BLOB) "
-                       "WHERE id = (SELECT min(id) FROM raw_chunks WHERE run_id = 1);")
+                       "WHERE id = (SELECT min(id) FROM raw_chunks WHERE run_id = 1 AND source = 'frame');")
                 .code == 0);
     auto r = verify(bytes, "1");
     INFO(r.out);
