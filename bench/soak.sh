@@ -113,10 +113,13 @@ sample() {
     kill -0 "$daemon" 2>/dev/null || { echo "soak.sh: tensiled died (see $out/tensiled.out)" >&2; exit 1; }
     rss=$(awk '/^VmRSS/ {print $2}' "/proc/$daemon/status")
     fds=$(ls "/proc/$daemon/fd" | wc -l)
-    s=$(api status)
-    python3 - "$s" "$(api 'runs?limit=10000')" "$1" "$rss" "$fds" >>"$out/soak.csv" <<'PY'
+    # Through files: the run list outgrows a command-line argument (128 KiB)
+    # after a few hundred runs, which ended an earlier soak at 65 minutes.
+    api status >"$out/status.json"
+    api 'runs?limit=100000' >"$out/runs.json"
+    python3 - "$out/status.json" "$out/runs.json" "$1" "$rss" "$fds" >>"$out/soak.csv" <<'PY'
 import json, sys
-s, runs = json.loads(sys.argv[1]), json.loads(sys.argv[2])
+s, runs = json.load(open(sys.argv[1])), json.load(open(sys.argv[2]))
 src, rec = s["sources"][0], s["recorder"]
 finished = sum(1 for r in runs["runs"] if r["state"] == "finished")
 print(",".join(str(v) for v in [sys.argv[3], sys.argv[4], sys.argv[5], s["acquisition"]["frames"], src["records"],
