@@ -110,92 +110,104 @@ bool alarm_raised(std::uint16_t port, const std::string& kind) {
     return false;
 }
 
+// One tensiled with its config against one simulator, its source connected;
+// the database under dir/data. `daemon_extra`: lines added to [daemon].
+struct ServedRig {
+    explicit ServedRig(const std::string& name, const std::string& daemon_extra = "")
+        : dir(temp_dir(name)), sim(dir), d({"--config", write_config(dir, sim.port, daemon_extra).string()}, dir / "out.log") {
+        REQUIRE(sim.port > 0);
+        REQUIRE(d.port != 0);
+        p = d.port;
+        bearer = "Bearer " + read_token(dir);
+        REQUIRE(wait_for([&] { return status()["sources"][0]["state"] == "connected"; }, 10));
+    }
+    json status() const { return status_of(p); }
+    bool has_alarm(const std::string& kind) const { return alarm_raised(p, kind); }
+    std::string sql(const std::string& q) const { return run_command("sqlite3 " + db.string() + " \"" + q + "\"").out; }
+
+    fs::path dir;
+    Simulator sim;
+    Daemon d;
+    fs::path db = dir / "data" / "tensiled.db";
+    decltype(Daemon::port) p{};
+    std::string bearer;
+};
+
 }  // namespace
 
 TEST_CASE("database locked by another process: arming refused, a lock mid-run loses no frame, a run ended under it is kept") {
-    const auto dir = temp_dir("tensiled-hardening-lock");
-    Simulator sim(dir);
-    REQUIRE(sim.port > 0);
-    const auto config = write_config(dir, sim.port);
-    Daemon d({"--config", config.string()}, dir / "out.log");
-    INFO(d.output());
-    REQUIRE(d.port != 0);
-    const auto p = d.port;
-    const auto bearer = "Bearer " + read_token(dir);
-    const auto db = dir / "data" / "tensiled.db";
-    const auto status = [&] { return status_of(p); };
-    const auto has_alarm = [&](const std::string& kind) { return alarm_raised(p, kind); };
-    REQUIRE(wait_for([&] { return status()["sources"][0]["state"] == "connected"; }, 10));
+    ServedRig rig("tensiled-hardening-lock");
+    INFO(rig.d.output());
     const std::string arm =
         R"({"specimen": {"label": "HM-0731", "shape": "round", "diameter_mm": 10, "gauge_length_mm": 50}})";
 
     // 1. Locked before arming: refused, naming the file and the lock.
     {
-        ShellLock lock(db);
+        ShellLock lock(rig.db);
         REQUIRE(lock.held);
-        REQUIRE(write_locked(db));
+        REQUIRE(write_locked(rig.db));
         const auto t0 = std::chrono::steady_clock::now();
-        const auto refused = http(p, "POST", "/api/v1/arm", arm, bearer);
+        const auto refused = http(rig.p, "POST", "/api/v1/arm", arm, rig.bearer);
         const double took = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
         INFO(refused.body);
         CHECK(refused.status == 409);
-        CHECK_THAT(refused.body, Catch::Contains(db.string()));
+        CHECK_THAT(refused.body, Catch::Contains(rig.db.string()));
         CHECK_THAT(refused.body, Catch::Contains("database is locked"));
         CHECK(took < 2.0);  // answered promptly, not after a long busy wait
-        CHECK(status()["state"] == "idle");
+        CHECK(rig.status()["state"] == "idle");
     }
-    REQUIRE_FALSE(write_locked(db));
-    REQUIRE(http(p, "POST", "/api/v1/arm", arm, bearer).status == 200);
-    REQUIRE(wait_for([&] { return status()["state"] == "running"; }, 10));  // preload passed
+    REQUIRE_FALSE(write_locked(rig.db));
+    REQUIRE(http(rig.p, "POST", "/api/v1/arm", arm, rig.bearer).status == 200);
+    REQUIRE(wait_for([&] { return rig.status()["state"] == "running"; }, 10));  // preload passed
 
     // 2. A lock mid-run, 3 s long.
     std::this_thread::sleep_for(std::chrono::seconds(1));
-    const auto before = status()["recorder"];
+    const auto before = rig.status()["recorder"];
     CHECK(before["frames_committed"].get<std::uint64_t>() > 500);  // committed before the fault
     CHECK(before["frames_dropped"] == 0);
     {
-        ShellLock lock(db);
+        ShellLock lock(rig.db);
         REQUIRE(lock.held);
-        REQUIRE(write_locked(db));
-        CHECK(wait_for([&] { return status()["recorder"]["db_locked"] == true; }, 3));
-        INFO(status().dump());
-        CHECK(has_alarm("database_locked"));
+        REQUIRE(write_locked(rig.db));
+        CHECK(wait_for([&] { return rig.status()["recorder"]["db_locked"] == true; }, 3));
+        INFO(rig.status().dump());
+        CHECK(rig.has_alarm("database_locked"));
         std::this_thread::sleep_for(std::chrono::seconds(3));
-        const auto during = status();
+        const auto during = rig.status();
         CHECK(during["state"] == "running");
         CHECK(during["recorder"]["frames_dropped"] == 0);
         CHECK(during["recorder"]["backlog_bytes"].get<std::uint64_t>() > 0);
         CHECK(during["recorder"]["frames_queued"].get<std::uint64_t>() >
               during["recorder"]["frames_committed"].get<std::uint64_t>() + 2000);  // 3 s at 2000 frames/s held back
     }
-    CHECK(wait_for([&] { return status()["recorder"]["db_locked"] == false; }, 5));
-    CHECK(wait_for([&] { return has_alarm("database_unlocked"); }, 3));
+    CHECK(wait_for([&] { return rig.status()["recorder"]["db_locked"] == false; }, 5));
+    CHECK(wait_for([&] { return rig.has_alarm("database_unlocked"); }, 3));
 
     // 3. The run ends while a second lock is held: answered, closed later.
     std::this_thread::sleep_for(std::chrono::seconds(1));
     {
-        ShellLock lock(db);
+        ShellLock lock(rig.db);
         REQUIRE(lock.held);
-        REQUIRE(write_locked(db));
-        CHECK(wait_for([&] { return status()["recorder"]["db_locked"] == true; }, 3));
+        REQUIRE(write_locked(rig.db));
+        CHECK(wait_for([&] { return rig.status()["recorder"]["db_locked"] == true; }, 3));
         const auto t0 = std::chrono::steady_clock::now();
-        CHECK(http(p, "POST", "/api/v1/stop", "", bearer).status == 200);
+        CHECK(http(rig.p, "POST", "/api/v1/stop", "", rig.bearer).status == 200);
         CHECK(std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count() < 4.0);
         std::this_thread::sleep_for(std::chrono::seconds(1));
-        CHECK(json::parse(http(p, "GET", "/api/v1/runs/1").body)["state"] == "running");  // not closed yet
+        CHECK(json::parse(http(rig.p, "GET", "/api/v1/runs/1").body)["state"] == "running");  // not closed yet
     }
-    CHECK(wait_for([&] { return json::parse(http(p, "GET", "/api/v1/runs/1").body)["state"] == "finished"; }, 5));
+    CHECK(wait_for([&] { return json::parse(http(rig.p, "GET", "/api/v1/runs/1").body)["state"] == "finished"; }, 5));
 
     // Every frame routed to the run is stored, with no hole where the locks were.
-    const auto end = status()["recorder"];
-    const auto run = json::parse(http(p, "GET", "/api/v1/runs/1").body);
+    const auto end = rig.status()["recorder"];
+    const auto run = json::parse(http(rig.p, "GET", "/api/v1/runs/1").body);
     INFO(run.dump().substr(0, 2000));
     CHECK(end["frames_dropped"] == 0);
     CHECK(end["write_errors"] == 0);
     CHECK(run["frame_count"].get<std::uint64_t>() == end["frames_queued"].get<std::uint64_t>());
     CHECK(run["frame_count"].get<std::uint64_t>() == end["frames_committed"].get<std::uint64_t>());
     CHECK(run["digest_sha256"].get<std::string>().size() == 64);
-    const auto frames = json::parse(http(p, "GET", "/api/v1/runs/1/frames?points=100").body);
+    const auto frames = json::parse(http(rig.p, "GET", "/api/v1/runs/1/frames?points=100").body);
     std::uint64_t least = ~0ull, total = 0;
     for (const auto& c : frames["buckets"]["count"]) {
         least = std::min(least, c.get<std::uint64_t>());
@@ -204,50 +216,37 @@ TEST_CASE("database locked by another process: arming refused, a lock mid-run lo
     CHECK(total == run["frame_count"].get<std::uint64_t>());
     // 100 slices of a ~12 s run at 2000 frames/s: ~240 each; a hole would leave some empty.
     CHECK(least > total / 100 / 2);
-    const auto sql = [&](const std::string& q) { return run_command("sqlite3 " + db.string() + " \"" + q + "\"").out; };
     // The last release comes after the run's close, so it belongs to no run.
-    CHECK(sql("SELECT kind FROM alarms WHERE kind LIKE 'database_%' ORDER BY id;") ==
+    CHECK(rig.sql("SELECT kind FROM alarms WHERE kind LIKE 'database_%' ORDER BY id;") ==
           "database_locked\ndatabase_unlocked\ndatabase_locked\ndatabase_unlocked\n");
-    CHECK(sql("PRAGMA integrity_check;") == "ok\n");
-    CHECK(d.stop() == 0);
-    fs::remove_all(dir);
+    CHECK(rig.sql("PRAGMA integrity_check;") == "ok\n");
+    CHECK(rig.d.stop() == 0);
+    fs::remove_all(rig.dir);
 }
 
 TEST_CASE("the disk fills under a run: a disk_full alarm, recording stops, what was stored stays whole") {
-    const auto dir = temp_dir("tensiled-hardening-full");
-    Simulator sim(dir);
-    REQUIRE(sim.port > 0);
-    const auto config = write_config(dir, sim.port, "max_database_mb = 0.75\n");
-    Daemon d({"--config", config.string()}, dir / "out.log");
-    INFO(d.output());
-    REQUIRE(d.port != 0);
-    const auto p = d.port;
-    const auto bearer = "Bearer " + read_token(dir);
-    const auto db = dir / "data" / "tensiled.db";
-    const auto status = [&] { return status_of(p); };
-    const auto has_alarm = [&](const std::string& kind) { return alarm_raised(p, kind); };
-    REQUIRE(wait_for([&] { return status()["sources"][0]["state"] == "connected"; }, 10));
+    ServedRig rig("tensiled-hardening-full", "max_database_mb = 0.75\n");
+    INFO(rig.d.output());
     const std::string arm =
         R"({"specimen": {"label": "HM-0732", "shape": "round", "diameter_mm": 10, "gauge_length_mm": 50}})";
-    REQUIRE(http(p, "POST", "/api/v1/arm", arm, bearer).status == 200);
-    REQUIRE(wait_for([&] { return status()["state"] == "running"; }, 10));
+    REQUIRE(http(rig.p, "POST", "/api/v1/arm", arm, rig.bearer).status == 200);
+    REQUIRE(wait_for([&] { return rig.status()["state"] == "running"; }, 10));
     // About 110 kB a second of frames and raw bytes: the 0.75 MB cap is met within seconds.
-    REQUIRE(wait_for([&] { return has_alarm("disk_full"); }, 30));
-    const auto at_full = status()["recorder"];
+    REQUIRE(wait_for([&] { return rig.has_alarm("disk_full"); }, 30));
+    const auto at_full = rig.status()["recorder"];
     INFO(at_full.dump());
     std::this_thread::sleep_for(std::chrono::seconds(1));
-    const auto later = status()["recorder"];
+    const auto later = rig.status()["recorder"];
     CHECK(later["frames_refused_disk"].get<std::uint64_t>() > at_full["frames_refused_disk"].get<std::uint64_t>());
     CHECK(later["frames_committed"] == at_full["frames_committed"]);  // recording stopped
-    CHECK(status()["state"] == "running");  // the test itself goes on; only its recording stopped
-    CHECK(http(p, "POST", "/api/v1/stop", "", bearer).status == 200);
+    CHECK(rig.status()["state"] == "running");  // the test itself goes on; only its recording stopped
+    CHECK(http(rig.p, "POST", "/api/v1/stop", "", rig.bearer).status == 200);
     // What was committed before is whole: frames from the run's start, no hole.
     const auto committed = at_full["frames_committed"].get<std::uint64_t>();
     CHECK(committed > 1000);
-    const auto sql = [&](const std::string& q) { return run_command("sqlite3 " + db.string() + " \"" + q + "\"").out; };
-    CHECK(std::stoull(sql("SELECT coalesce(sum(frame_count), 0) FROM frame_chunks WHERE run_id = 1;")) == committed);
-    CHECK(sql("SELECT min(first_index) FROM frame_chunks WHERE run_id = 1;") == "0\n");
-    CHECK(sql("PRAGMA integrity_check;") == "ok\n");
-    CHECK(d.stop() == 0);
-    fs::remove_all(dir);
+    CHECK(std::stoull(rig.sql("SELECT coalesce(sum(frame_count), 0) FROM frame_chunks WHERE run_id = 1;")) == committed);
+    CHECK(rig.sql("SELECT min(first_index) FROM frame_chunks WHERE run_id = 1;") == "0\n");
+    CHECK(rig.sql("PRAGMA integrity_check;") == "ok\n");
+    CHECK(rig.d.stop() == 0);
+    fs::remove_all(rig.dir);
 }
