@@ -179,7 +179,7 @@ void RigService::on_frames(const std::vector<drivers::AlignedFrame>& frames, dou
         if (made_events) note_latency(now_s() - arrival_s);
         step_.clear();
     }
-    after_step();  // the rest of the read's frames, for the observers
+    if (!step_.frames.empty()) after_step();  // the rest of the read's frames, for the observers
 }
 
 void RigService::note_latency(double latency_s) {
