@@ -3,6 +3,9 @@
 
 #include <chrono>
 #include <stdexcept>
+#if defined(__GLIBC__)
+#include <malloc.h>
+#endif
 
 #include "daemon/offline/results_json.hpp"
 #include "daemon/offline/specimen_json.hpp"
@@ -41,6 +44,17 @@ std::string locked_message(const std::filesystem::path& db, const std::string& w
     return "the database " + db.string() + " cannot be written: " + why +
            " (another process holds its write lock, e.g. an open sqlite3 session or a backup); "
            "no run is armed until it can be written; close that program and arm again";
+}
+
+// A run's buffers (frame batches, raw chunks, the analyzer's history) are
+// freed when it ends, but glibc keeps freed pages in its per-thread arenas,
+// so over weeks of runs the resident size creeps up by a few KiB a run
+// without any leak. Handing the free pages back once per run keeps the
+// floor flat; it costs about a millisecond, between runs.
+void release_free_memory() {
+#if defined(__GLIBC__)
+    malloc_trim(0);
+#endif
 }
 }  // namespace
 
@@ -217,6 +231,7 @@ void RunKeeper::ended(const RunInfo& run, RunState end, const Results& results) 
         log_->error("cannot close run {}: {}", id, s.error());
     else
         log_->info("run {} (id {}) stored: {}", run.number, id, name_of(state));
+    release_free_memory();
 }
 
 }  // namespace tensile
