@@ -139,10 +139,16 @@ void Machine::advance_to(double t) {
     }
     crosshead_target_ += c_.crosshead_speed_mm_s * ch_dt;
     const double Fs = 0.005 * Fm_N_;
+    // After a hold the relaxed force comes back along the elastic slope as
+    // the strain grows (set_strain): the solve must see that, or the frame
+    // would overshoot its commanded position by compliance x regained force.
+    const double elastic_N = curve_.slope_MPa(0) * g_.S0_mm2;
+    const auto relax_at = [&](double e) { return std::max(0.0, relax_N_ - elastic_N * (e - s_.strain)); };
     for (int i = 0; i < 4; ++i) {
-        const double F = force_of(strain) - relax_N_;
+        const double relax = relax_at(strain);
+        const double F = force_of(strain) - relax;
         const double f = crosshead_of(strain, F) - crosshead_target_;
-        const double dF = g_.S0_mm2 * curve_.slope_MPa(strain);
+        const double dF = g_.S0_mm2 * curve_.slope_MPa(strain) + (relax > 0 ? elastic_N : 0.0);
         const double df = g_.Lc_mm + (c_.compliance_mm_per_kN / 1000 + c_.slack_mm / Fs * std::exp(-F / Fs)) * dF;
         if (df < 0.05 * g_.Lc_mm) {  // snap-back: the frame's stored energy breaks the specimen now
             strain = curve_.max_strain();

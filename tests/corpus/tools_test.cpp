@@ -23,8 +23,8 @@
 #include <filesystem>
 #include <fstream>
 #include <map>
-#include <regex>
 #include <sstream>
+#include <string_view>
 
 #include <nlohmann/json.hpp>
 
@@ -121,9 +121,17 @@ TEST_CASE("tools: tensilectl report writes a self-contained HTML record of each 
                              Catch::Contains("local codes") && Catch::Contains("extensometer off"));
         CHECK_THAT(html, Catch::Contains("Strain rate per phase") && Catch::Contains("Not verified yet"));
         // The plot is not blank: a long polyline spanning most of the plot area.
-        std::smatch m;
-        REQUIRE(std::regex_search(html, m, std::regex("class=\"trace\"[^>]*points=\"([^\"]*)\"")));
-        std::istringstream pts(m[1].str());
+        // (plain searches: std::regex recurses once per character and runs
+        // out of stack on a points list this long)
+        const auto trace = html.find("class=\"trace\"");
+        REQUIRE(trace != std::string::npos);
+        const auto open = html.find("points=\"", trace);
+        REQUIRE(open != std::string::npos);
+        REQUIRE(html.find('>', trace) > open);  // the same element
+        const auto first = open + std::string_view("points=\"").size();
+        const auto close = html.find('"', first);
+        REQUIRE(close != std::string::npos);
+        std::istringstream pts(html.substr(first, close - first));
         double xmin = 1e9, xmax = -1e9, ymin = 1e9, ymax = -1e9, x, y;
         char comma;
         int n = 0;

@@ -73,7 +73,7 @@ TEST_CASE("pty: the slave is recognised as a pseudo-terminal", "[pty][serial]") 
     CHECK_FALSE(is_pseudo_terminal("/dev/null"));
 }
 
-TEST_CASE("pty source: lines written on the master arrive as samples; commands go back", "[pty][serial][source]") {
+TEST_CASE("pty source: lines written on the master arrive as samples, and commands go back", "[pty][serial][source]") {
     Pty pty;
     boost::asio::io_context io;
     SerialSourceConfig cfg;

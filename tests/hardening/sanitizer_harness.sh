@@ -1,10 +1,11 @@
 #!/usr/bin/env bash
 # The sanitizer side of the hardening tests (registered in CMakeLists.txt
-# beside this file). Three steps, each one ctest:
+# beside this file). Each step is one ctest:
 #
 #   build SRC TREE LAUNCHER TARGET...   configure TREE (e.g. build/sanitize) with
 #                                       ASan + UBSan and our fuzz driver, build TARGETs
-#   unit TREE EXE...                    run the Catch2 executables of TREE
+#   unit TREE [--alone] EXE...          run the Catch2 executables of TREE, two at a
+#                                       time or one at a time
 #   fuzz TREE SEEDS SECONDS TARGET...   run each fuzz target from SEEDS/<name> for SECONDS
 #   selftest TREE                       the driver must find fuzz_planted_overflow's bug
 #   e2e TREE                            the sanitized tensiled runs its demo rig (the
@@ -20,6 +21,9 @@ set -uo pipefail
 
 export ASAN_OPTIONS="halt_on_error=1:abort_on_error=1:detect_leaks=${TENSILED_DETECT_LEAKS:-1}:check_initialization_order=1:strict_init_order=1:detect_stack_use_after_return=1:print_summary=1"
 export UBSAN_OPTIONS="halt_on_error=1:print_stacktrace=1:print_summary=1"
+# Leaks inside libraries that are not ours, each with its reason, are listed
+# in lsan.supp beside this script.
+export LSAN_OPTIONS="suppressions=$(cd "$(dirname "$0")" && pwd)/lsan.supp:print_suppressions=0"
 
 now() { date +%s%N; }
 since() { local ms=$(( ($(now) - $1) / 1000000 )); printf '%d.%d' $((ms / 1000)) $((ms % 1000 / 100)); }
@@ -48,12 +52,22 @@ build)
     echo "build of $*: $(since "$t1") s (total $(since "$t0") s)"
     ;;
 unit)
-    # Two executables at a time (the machine has two cores); each one's
-    # output goes to TREE/unit-logs/EXE.log and is printed when it fails.
+    # Two executables at a time (the machine has two cores), or one at a
+    # time after --alone (the suites ctest runs serially in the main tree:
+    # live rigs with timing). Each one's output goes to
+    # TREE/unit-logs/EXE.log and is printed when it fails. Reports of every
+    # process they start (tensiled, tensile-sim, tensilectl...) go to a
+    # reports folder: a child whose report its test never looked at (a
+    # leak found as a daemon exits after SIGTERM) still fails the step.
     tree=$1; shift
+    width=2
+    if [ "${1:-}" = --alone ]; then width=1; shift; fi
     t0=$(now)
     logs="$tree/unit-logs"
     mkdir -p "$logs"
+    reports=$(mktemp -d "$tree/sanitizer-reports.XXXXXX")
+    export ASAN_OPTIONS="$ASAN_OPTIONS:log_path=$reports/asan"
+    export UBSAN_OPTIONS="$UBSAN_OPTIONS:log_path=$reports/ubsan"
     run_one() {
         local t1; t1=$(now)
         if "$tree/bin/$1" >"$logs/$1.log" 2>&1; then
@@ -67,10 +81,16 @@ unit)
     for exe in "$@"; do
         run_one "$exe" &
         pids+=($!)
-        if [ ${#pids[@]} -ge 2 ]; then wait "${pids[0]}" || failed=1; pids=("${pids[@]:1}"); fi
+        if [ ${#pids[@]} -ge "$width" ]; then wait "${pids[0]}" || failed=1; pids=("${pids[@]:1}"); fi
     done
     for pid in "${pids[@]}"; do wait "$pid" || failed=1; done
-    echo "all unit tests under ASan + UBSan: $(since "$t0") s"
+    if compgen -G "$reports/*" >/dev/null; then
+        for r in "$reports"/*; do echo "== sanitizer report $r"; cat "$r"; done
+        echo "FAILED: sanitizer reports above (kept in $reports)"; failed=1
+    else
+        rmdir "$reports"
+    fi
+    echo "$* under ASan + UBSan: $(since "$t0") s"
     exit $failed
     ;;
 fuzz)
@@ -134,7 +154,7 @@ PY
     echo "sanitized tensiled + tensile-sim, one test over TCP: passed in $(since "$t0") s, no sanitizer report"
     ;;
 *)
-    echo "usage: $0 build SRC TREE LAUNCHER TARGET... | unit TREE EXE... | fuzz TREE SEEDS SECONDS TARGET... | selftest TREE | e2e TREE" >&2
+    echo "usage: $0 build SRC TREE LAUNCHER TARGET... | unit TREE [--alone] EXE... | fuzz TREE SEEDS SECONDS TARGET... | selftest TREE | e2e TREE" >&2
     exit 2
     ;;
 esac

@@ -142,7 +142,7 @@ TEST_CASE("commands that don't fit the state are refused with the state named") 
     CHECK(c.arm({80, 80, 120}, RunSettings{}, 2, out));  // a new run after an aborted one
 }
 
-TEST_CASE("a device lost past the limit faults the run; one that comes back does not") {
+TEST_CASE("a device lost past the limit faults the run, and one that comes back does not") {
     RunController c;
     RunOutput out;
     RunSettings s;

@@ -134,7 +134,7 @@ TEST_CASE("table file: header, frames and maximum force agree with the truth") {
     fs::remove_all(dir);
 }
 
-TEST_CASE("same seed, same bytes; another seed, other bytes") {
+TEST_CASE("same seed, same bytes, and another seed, other bytes") {
     const fs::path dir = scratch();
     for (const char* format : {"lines", "binary"}) {
         const std::string common = std::string(" --format ") + format + " --fault garbage@5+2:300 --fault torn@9+1 --out ";

@@ -47,7 +47,7 @@ TEST_CASE("strain-rate control, then crosshead speed after the switch") {
     CHECK(m.state().crosshead_mm - x0 == Approx(r.config.crosshead_speed_mm_s).epsilon(1e-6));
 }
 
-TEST_CASE("hold freezes the crosshead and relaxes the force a little; resume goes on") {
+TEST_CASE("hold freezes the crosshead and relaxes the force a little, and resume goes on") {
     Rig r = make_rig("harbourline-s355-lot7");
     Machine m(r.table, r.g, r.config, r.truth.Fm_N, {});
     m.advance_to(45.0);  // past yield, under crosshead control
