@@ -30,6 +30,7 @@ std::optional<LineFit> fit_line(std::span<const double> x, std::span<const doubl
     if (!(sxx > 0)) return std::nullopt;
     LineFit f;
     f.count = n;
+    f.x_spread = sxx;
     f.slope = sxy / sxx;
     f.intercept = my - f.slope * mx;
     double sse = 0;  // a third pass: no cancellation, as NIST StRD asks

@@ -14,6 +14,7 @@ struct LineFit {
     double slope = 0;
     double r2 = 0;
     double residual_sd = 0;
+    double x_spread = 0;  // Σ(x − mean x)², for the slope's standard error
     std::size_t count = 0;
 
     // ASTM E111 style: V1 = 100·√((1/r² − 1)/(K − 2)), in %.

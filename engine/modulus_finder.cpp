@@ -48,15 +48,11 @@ std::optional<Candidate> fit_band(std::span<const double> strain, std::span<cons
         auto a = fit_range(strain, stress, first, mid);
         auto b = fit_range(strain, stress, mid, last);
         if (a && b && a->slope > 0 && b->slope > 0) {
-            auto se = [](const LineFit& f, std::span<const double> x) {
-                double m = 0, sxx = 0;
-                for (double v : x) m += v;
-                m /= static_cast<double>(x.size());
-                for (double v : x) sxx += (v - m) * (v - m);
-                return sxx > 0 ? f.residual_sd / std::sqrt(sxx) : INFINITY;
-            };
-            const double se_a = se(*a, stress.subspan(first, mid - first));
-            const double se_b = se(*b, stress.subspan(mid, last - mid));
+            // Standard error of a slope: residual SD over √Σ(x − mean x)²;
+            // the fit has that sum already (x is the stress here).
+            auto se = [](const LineFit& f) { return f.x_spread > 0 ? f.residual_sd / std::sqrt(f.x_spread) : INFINITY; };
+            const double se_a = se(*a);
+            const double se_b = se(*b);
             const double diff = std::abs(a->slope - b->slope);
             c.straight = diff <= tolerance * line->slope || diff <= 3.0 * std::hypot(se_a, se_b);
         }
