@@ -25,6 +25,7 @@ Analyzer::Analyzer(SpecimenGeometry geometry, Profile profile)
     total_found_.assign(profile_.total_extensions_pct.size(), false);
     for (double x : profile_.proof_offsets_pct) proofs_.push_back({x, std::nullopt});
     for (double x : profile_.total_extensions_pct) totals_.push_back({x, std::nullopt});
+    yield_watch_plastic_ = profile_.yield_max_plastic_pct / 100.0;
 }
 
 void Analyzer::push(const Frame& frame, std::vector<Event>& events) {
@@ -294,6 +295,7 @@ void Analyzer::scan_offsets(std::size_t from, std::size_t to, std::vector<Event>
             if (p1 < x || p0 >= x) continue;
             const double f = (x - p0) / (p1 - p0);
             proof_found_[j] = true;
+            any_proof_found_ = true;
             proofs_[j].MPa = between(history_.stress_MPa, k, f);
             events.push_back(make_event_between(EventKind::proof_strength, k, f, history_.size() - 1,
                                                 proofs_[j].offset_pct, offset_label("Rp", proofs_[j].offset_pct)));
@@ -317,7 +319,7 @@ void Analyzer::scan_offsets(std::size_t from, std::size_t to, std::vector<Event>
 // or after the end of yielding, there is nothing left to watch.
 bool Analyzer::yield_watch_open(std::size_t i) const {
     return !(yield_.points() ? yield_.points()->end_index.has_value()
-                             : modulus_locked_ && plastic(i) > profile_.yield_max_plastic_pct / 100.0);
+                             : modulus_locked_ && plastic(i) > yield_watch_plastic_);
 }
 
 void Analyzer::follow_yield(std::size_t i, std::vector<Event>& events) {
@@ -386,9 +388,7 @@ void Analyzer::follow_break(std::size_t i, std::vector<Event>& events) {
 
 RatePhase Analyzer::phase() const {
     if (yield_.points()) return yield_.yielding() ? RatePhase::yielding : RatePhase::plastic;
-    for (std::size_t j = 0; j < proofs_.size(); ++j)
-        if (proof_found_[j]) return RatePhase::plastic;
-    return RatePhase::elastic;
+    return any_proof_found_ ? RatePhase::plastic : RatePhase::elastic;
 }
 
 void Analyzer::follow_rate(std::size_t i, std::vector<Event>& events) {

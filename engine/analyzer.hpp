@@ -126,7 +126,9 @@ private:
     int departed_frames_ = 0;
     std::vector<double> thin_strain_, thin_stress_, thin_max_;  // reused by provisional_modulus
     std::vector<bool> proof_found_, total_found_;
+    bool any_proof_found_ = false;   // some Rp x found: the test is past its elastic phase
     bool all_offsets_found_ = false;
+    double yield_watch_plastic_ = 0;  // plastic strain past which no yield point is looked for
     std::vector<OffsetValue> proofs_, totals_;
 
     YieldDetector yield_;

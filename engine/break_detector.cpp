@@ -22,9 +22,11 @@ BreakDetector::Step BreakDetector::update(const History& h, std::size_t i, doubl
     bool falling = false;
     std::size_t from = tail_;
     const double span = now - h.time_s[tail_];
+    // Both tests must hold; the size of the fall is tested first because it
+    // needs no division and fails on nearly every frame of a run.
     if (span > 0 && F[tail_] >= floor)
-        falling = (F[tail_] - F[i]) / span > profile_.break_rate_per_s * max_force_N &&
-                  F[tail_] - F[i] >= 0.5 * profile_.break_rate_per_s * profile_.break_window_s * max_force_N;
+        falling = F[tail_] - F[i] >= 0.5 * profile_.break_rate_per_s * profile_.break_window_s * max_force_N &&
+                  (F[tail_] - F[i]) / span > profile_.break_rate_per_s * max_force_N;
     if (!falling && F[i - 1] >= floor && F[i] < 0.5 * F[i - 1]) {
         falling = true;
         from = i - 1;

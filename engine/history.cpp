@@ -24,36 +24,25 @@ double finite_mean(const double* v, std::size_t from, std::size_t to) {
 
 // Writes to out[0, groups) the finite means of the `groups` runs of `size`
 // values from v on (out may be v itself: out[g] is written only after every
-// run up to g has been read). Four runs are summed side by side, each in its
-// own order, so the sums are those finite_mean gives to the last bit; one
-// running sum alone would wait on the previous addition for every value.
+// run up to g has been read). Each run is first summed plainly, in row order:
+// a finite plain sum means every value was finite (a NaN or an infinity
+// would have made it NaN or infinite), so it is the very sum finite_mean
+// makes and the mean is the same to the last bit; the rare run with a gap
+// (a lost extensometer, an overflow) is summed again by finite_mean. Eight
+// runs are summed side by side, each in its own order, because one running
+// sum alone would wait on the previous addition for every value.
 void group_means(const double* v, std::size_t groups, std::size_t size, double* out) {
+    constexpr std::size_t lanes = 8;
     std::size_t g = 0;
     if (size > 1) {
-        for (; g + 4 <= groups; g += 4) {
-            const double* p0 = v + g * size;
-            const double *p1 = p0 + size, *p2 = p1 + size, *p3 = p2 + size;
-            double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
-            std::size_t c0 = 0, c1 = 0, c2 = 0, c3 = 0;
-            const auto add = [](double x, double& sum, std::size_t& count) {
-                if (std::isfinite(x)) {
-                    sum += x;
-                    ++count;
-                }
-            };
-            for (std::size_t k = 0; k < size; ++k) {
-                add(p0[k], s0, c0);
-                add(p1[k], s1, c1);
-                add(p2[k], s2, c2);
-                add(p3[k], s3, c3);
-            }
-            const auto mean = [](double sum, std::size_t count) {
-                return count ? sum / static_cast<double>(count) : NAN;
-            };
-            out[g] = mean(s0, c0);
-            out[g + 1] = mean(s1, c1);
-            out[g + 2] = mean(s2, c2);
-            out[g + 3] = mean(s3, c3);
+        const double count = static_cast<double>(size);
+        for (; g + lanes <= groups; g += lanes) {
+            const double* p = v + g * size;
+            double sum[lanes] = {};  // from zero, as finite_mean (so -0.0 rows give +0.0 there too)
+            for (std::size_t k = 0; k < size; ++k)
+                for (std::size_t l = 0; l < lanes; ++l) sum[l] += p[l * size + k];
+            for (std::size_t l = 0; l < lanes; ++l)
+                out[g + l] = std::isfinite(sum[l]) ? sum[l] / count : finite_mean(v, (g + l) * size, (g + l + 1) * size);
         }
     }
     for (; g < groups; ++g) out[g] = finite_mean(v, g * size, (g + 1) * size);

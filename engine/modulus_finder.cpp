@@ -37,26 +37,29 @@ std::optional<Candidate> fit_band(std::span<const double> strain, std::span<cons
     const std::size_t first = first_at_or_above(running_max, low);
     const std::size_t last = first_at_or_above(running_max, high);
     if (last <= first || last - first < min_points) return std::nullopt;
-    auto line = fit_range(strain, stress, first, last);
+    // The band and, when both have enough points, its halves, fitted together.
+    const std::size_t mid = first_at_or_above(running_max, 0.5 * (low + high));
+    const bool halves = mid - first >= min_points / 2 && last - mid >= min_points / 2;
+    SplitFit fits;
+    if (halves)
+        fits = fit_line_split(stress.subspan(first, last - first), strain.subspan(first, last - first), mid - first);
+    else
+        fits.whole = fit_range(strain, stress, first, last);
+    const auto& line = fits.whole;
     if (!line || !(line->slope > 0)) return std::nullopt;
     Candidate c{low, high, first, last, *line, false};
 
     // Straightness: the halves' slopes differ by less than the tolerance, or by
     // less than three standard errors when noise is what separates them.
-    const std::size_t mid = first_at_or_above(running_max, 0.5 * (low + high));
-    if (mid - first >= min_points / 2 && last - mid >= min_points / 2) {
-        auto a = fit_range(strain, stress, first, mid);
-        auto b = fit_range(strain, stress, mid, last);
+    if (halves) {
+        const auto& a = fits.first;
+        const auto& b = fits.second;
         if (a && b && a->slope > 0 && b->slope > 0) {
-            auto se = [](const LineFit& f, std::span<const double> x) {
-                double m = 0, sxx = 0;
-                for (double v : x) m += v;
-                m /= static_cast<double>(x.size());
-                for (double v : x) sxx += (v - m) * (v - m);
-                return sxx > 0 ? f.residual_sd / std::sqrt(sxx) : INFINITY;
-            };
-            const double se_a = se(*a, stress.subspan(first, mid - first));
-            const double se_b = se(*b, stress.subspan(mid, last - mid));
+            // Standard error of a slope: residual SD over √Σ(x − mean x)²;
+            // the fit has that sum already (x is the stress here).
+            auto se = [](const LineFit& f) { return f.x_spread > 0 ? f.residual_sd / std::sqrt(f.x_spread) : INFINITY; };
+            const double se_a = se(*a);
+            const double se_b = se(*b);
             const double diff = std::abs(a->slope - b->slope);
             c.straight = diff <= tolerance * line->slope || diff <= 3.0 * std::hypot(se_a, se_b);
         }

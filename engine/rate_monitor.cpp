@@ -38,6 +38,7 @@ RateMonitor::Change RateMonitor::update(const History& h, std::size_t i, RatePha
     follow(h, i, window, tail_);
     follow(h, i, 0.1 * window, recent_tail_);
     const RateBand& band = profile_.rate_bands[static_cast<int>(phase)];
+    const double still_below = still_below_[static_cast<int>(phase)];
     const bool banded = band.max_per_s > 0;
     auto pause = [&] {
         paused_ = true;
@@ -50,7 +51,7 @@ RateMonitor::Change RateMonitor::update(const History& h, std::size_t i, RatePha
     if (i == 0 || span < 0.5 * window || !(span > 0)) {
         // While paused the window keeps restarting; it grows again once the
         // machine moves.
-        if (i > 0 && banded && paused_ && standing_still(h, i, band.min_per_s / 20.0)) return pause();
+        if (i > 0 && banded && paused_ && standing_still(h, i, still_below)) return pause();
         rate_.reset();
         return Change::none;
     }
@@ -59,8 +60,8 @@ RateMonitor::Change RateMonitor::update(const History& h, std::size_t i, RatePha
     if (!banded) return Change::none;
     // A standstill only matters once the rate has fallen below the band (the
     // ramp into a hold); until then the time is rightly counted inside.
-    if (std::abs(*rate_) < band.min_per_s / 20.0 ||
-        (*rate_ < band.min_per_s && standing_still(h, i, band.min_per_s / 20.0)))
+    if (std::abs(*rate_) < still_below ||
+        (*rate_ < band.min_per_s && standing_still(h, i, still_below)))
         return pause();
 
     const double dt = now - h.time_s[i - 1];

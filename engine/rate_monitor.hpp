@@ -24,7 +24,11 @@ namespace tensile {
 class RateMonitor {
 public:
     // `L0_mm` turns crosshead travel into a strain-like rate for the standstill test.
-    RateMonitor(const Profile& profile, double L0_mm) : profile_(profile), L0_mm_(L0_mm) {}
+    RateMonitor(const Profile& profile, double L0_mm) : profile_(profile), L0_mm_(L0_mm) {
+        // The standstill limit of each band, worked out once rather than on
+        // every frame (the same division, so the same value).
+        for (int p = 0; p < rate_phase_count; ++p) still_below_[p] = profile.rate_bands[p].min_per_s / 20.0;
+    }
 
     enum class Change { none, left_band, back_in_band };
 
@@ -43,6 +47,7 @@ private:
 
     const Profile& profile_;
     double L0_mm_;
+    double still_below_[rate_phase_count];  // per phase: slower than this is a standstill
     std::size_t tail_ = 0;          // oldest row inside the window
     std::size_t recent_tail_ = 0;   // oldest row inside the last tenth of the window
     std::optional<double> rate_;

@@ -14,6 +14,10 @@ namespace {
 
 constexpr std::size_t chunk_frames = 16384;
 constexpr std::size_t queue_chunks = 4;
+// The first chunks are handed over smaller (1024 frames, doubling up to
+// chunk_frames), so the consumer starts within a few hundred microseconds
+// instead of waiting for a whole chunk to be read.
+constexpr std::size_t first_chunk_frames = 1024;
 
 class ChunkQueue {
 public:
@@ -67,25 +71,25 @@ struct ChunkingSink : FrameSink {
     ChunkQueue& queue;
     FrameSink& consumer;
     std::vector<Frame> chunk;
+    std::size_t limit = first_chunk_frames;  // frames in the chunk being filled
     ChunkingSink(ChunkQueue& q, FrameSink& c) : queue(q), consumer(c), chunk(q.fresh()) {}
     void passed(std::size_t offset) override { consumer.passed(offset); }
     void take(const Frame& f) override {
         chunk.push_back(f);
-        if (chunk.size() == chunk_frames) {
-            queue.push(std::move(chunk));
-            chunk = queue.fresh();
-        }
+        if (chunk.size() == limit) hand_over();
     }
     void take_all(std::span<const Frame> frames) override {
         while (!frames.empty()) {
-            const std::size_t n = std::min(frames.size(), chunk_frames - chunk.size());
+            const std::size_t n = std::min(frames.size(), limit - chunk.size());
             chunk.insert(chunk.end(), frames.begin(), frames.begin() + static_cast<std::ptrdiff_t>(n));
             frames = frames.subspan(n);
-            if (chunk.size() == chunk_frames) {
-                queue.push(std::move(chunk));
-                chunk = queue.fresh();
-            }
+            if (chunk.size() == limit) hand_over();
         }
+    }
+    void hand_over() {
+        queue.push(std::move(chunk));
+        chunk = queue.fresh();
+        limit = std::min(2 * limit, chunk_frames);
     }
     void flush() {
         if (!chunk.empty()) queue.push(std::move(chunk));

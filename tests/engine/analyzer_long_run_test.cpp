@@ -73,6 +73,39 @@ TEST_CASE("History::compact merges older rows evenly and keeps the newest frame 
     CHECK(h.time_s[again(15)] == 27.0);  // old row 15 held frame 27
 }
 
+TEST_CASE("merged rows are the means of their frames' finite values, gaps and all") {
+    // Enough groups that merging takes its wide path (runs summed side by
+    // side), with a missing value, an infinity and a wholly missing group
+    // among them: each merged row must be the plain mean of the finite values
+    // of its frames, summed in frame order (so it is compared exactly).
+    History h;
+    std::vector<double> ext;
+    for (int k = 0; k < 400; ++k) {
+        double e = 0.25 * k + 1.0 / (k + 3);
+        if (k % 37 == 5) e = NAN;
+        if (k == 101) e = INFINITY;
+        if (k >= 200 && k < 204) e = NAN;
+        ext.push_back(e);
+        h.append(k, 10.0 * k, 0.001 * k, k, e, k);
+    }
+    h.compact(150, 40);
+    REQUIRE(h.stride() == 4);
+    REQUIRE(h.merged_rows() == 90);  // 360 frames in groups of four, the newest 40 kept
+    for (std::size_t g = 0; g < h.merged_rows(); ++g) {
+        double sum = 0;
+        int count = 0;
+        for (std::size_t k = 4 * g; k < 4 * g + 4; ++k)
+            if (std::isfinite(ext[k])) {
+                sum += ext[k];
+                ++count;
+            }
+        INFO("merged row " << g);
+        if (count == 0) CHECK(std::isnan(h.extension_mm[g]));
+        else CHECK(h.extension_mm[g] == sum / count);
+        CHECK(h.time_s[g] == 4.0 * g + 1.5);
+    }
+}
+
 TEST_CASE("a run far longer than the row limit gives the same results in bounded memory") {
     // Hill-1944 curve on a 6061-T6-like handbook row (E 68.9 GPa, yield
     // 276 MPa); the 0.2 % offset strength of the curve is σ0.2 (derived).
