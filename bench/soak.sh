@@ -17,7 +17,9 @@
 # Every sample goes to DIR/soak.csv: elapsed seconds, tensiled's resident
 # memory (VmRSS, KiB) and open file descriptors (/proc), acquisition frames,
 # source records, bad records, lost frames, recorder frames dropped and
-# committed, write errors, runs stored, runs finished. DIR/summary.txt gives
+# committed, write errors, runs stored, runs finished, and the heap SQLite
+# holds (its page caches fill as the database grows, up to their limit).
+# DIR/summary.txt gives
 # first/last/max of memory and descriptors, the totals lost, and the runs.
 # A leak shows as memory or descriptors climbing from run to run; lost or
 # dropped frames should stay 0 whatever the length.
@@ -107,7 +109,7 @@ token=$(cat "$out/monitor.token")
 api() { curl -s --max-time 5 "http://127.0.0.1:$port/api/v1/$1"; }
 arm='{"specimen": {"label": "HM-SOAK", "shape": "round", "diameter_mm": 12.5, "gauge_length_mm": 62.5}}'
 
-echo "elapsed_s,rss_kib,open_fds,frames,records,bad_records,lost_frames,frames_dropped,frames_committed,write_errors,runs,runs_finished" >"$out/soak.csv"
+echo "elapsed_s,rss_kib,open_fds,frames,records,bad_records,lost_frames,frames_dropped,frames_committed,write_errors,runs,runs_finished,sqlite_kib" >"$out/soak.csv"
 sample() {
     local s rss fds
     kill -0 "$daemon" 2>/dev/null || { echo "soak.sh: tensiled died (see $out/tensiled.out)" >&2; exit 1; }
@@ -124,7 +126,7 @@ src, rec = s["sources"][0], s["recorder"]
 finished = sum(1 for r in runs["runs"] if r["state"] == "finished")
 print(",".join(str(v) for v in [sys.argv[3], sys.argv[4], sys.argv[5], s["acquisition"]["frames"], src["records"],
       src["bad_records"], src["lost_frames"], rec["frames_dropped"], rec["frames_committed"], rec["write_errors"],
-      runs["count"], finished]))
+      runs["count"], finished, s.get("memory", {}).get("sqlite_bytes", 0) // 1024]))
 PY
 }
 
@@ -163,6 +165,11 @@ print(f"resident memory: first {rss[0] / 1024:.1f} MiB, last {rss[-1] / 1024:.1f
 half = rss[len(rss) // 2:]
 print(f"  second half: min {min(half) / 1024:.1f} MiB, max {max(half) / 1024:.1f} MiB")
 print(f"open descriptors: first {fds[0]:.0f}, last {fds[-1]:.0f}, max {max(fds):.0f}")
+sq = col("sqlite_kib")
+rest = [r - q for r, q in zip(rss, sq)]
+rest_half = rest[len(rest) // 2:]
+print(f"SQLite heap: first {sq[0] / 1024:.1f} MiB, last {sq[-1] / 1024:.1f} MiB, max {max(sq) / 1024:.1f} MiB; "
+      f"resident memory less SQLite's, second half: {min(rest_half) / 1024:.1f} to {max(rest_half) / 1024:.1f} MiB")
 print(f"frames: {last['frames']} acquired, {last['records']} records, {last['bad_records']} bad records, "
       f"{last['lost_frames']} lost on the wire, {last['frames_dropped']} dropped by the recorder, "
       f"{last['write_errors']} write errors")

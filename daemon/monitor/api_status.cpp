@@ -5,6 +5,7 @@
 #include <sstream>
 
 #include "api.hpp"
+#include "daemon/storage/sqlite_db.hpp"
 #include "daemon/tensiled/run_keeper.hpp"
 #include "shared_state.hpp"
 
@@ -92,6 +93,8 @@ json Api::status() const {
                         {"frames_per_s", c_.feed.frames_per_s()},
                         {"event_latency_ms", {{"p50", 1e3 * latency_p50}, {"p99", 1e3 * latency_p99}}}};
     j["recorder"] = recorder_json(c_.keeper.counters());
+    const auto sqlite = storage::sqlite_memory();
+    j["memory"] = {{"sqlite_bytes", sqlite.used_bytes}, {"sqlite_peak_bytes", sqlite.peak_bytes}};
     j["monitor"] = {{"live_clients", c_.hub.clients()}, {"live_clients_dropped", c_.hub.dropped()},
                     {"token_required_for_reads", !c_.access.loopback()}};
     json alarms = json::array();
@@ -145,6 +148,8 @@ std::string Api::metrics() const {
     m << "tensiled_recorder_db_locked " << rc.db_locked << '\n';
     metric("tensiled_recorder_backlog_bytes", "gauge", "Written data held in memory while the database is locked.");
     m << "tensiled_recorder_backlog_bytes " << rc.backlog_bytes << '\n';
+    metric("tensiled_sqlite_memory_bytes", "gauge", "Heap memory SQLite holds (page caches, statements), all connections.");
+    m << "tensiled_sqlite_memory_bytes " << storage::sqlite_memory().used_bytes << '\n';
 
     metric("tensiled_run_state", "gauge", "1 for the rig's current run state.");
     for (auto s : {RunState::idle, RunState::armed, RunState::running, RunState::finished, RunState::aborted,

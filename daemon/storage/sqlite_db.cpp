@@ -121,4 +121,8 @@ bool Db::last_was_busy() const {
 bool Db::last_was_full() const { return (sqlite3_errcode(db_) & 0xff) == SQLITE_FULL; }
 void Db::set_busy_timeout(int ms) { sqlite3_busy_timeout(db_, ms); }
 
+SqliteMemory sqlite_memory() {
+    return {static_cast<std::int64_t>(sqlite3_memory_used()), static_cast<std::int64_t>(sqlite3_memory_highwater(0))};
+}
+
 }  // namespace tensile::storage

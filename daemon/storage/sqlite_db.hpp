@@ -64,6 +64,16 @@ private:
     sqlite3_stmt* stmt_ = nullptr;
 };
 
+// Heap memory SQLite holds in this process, all connections together (page
+// caches, statements, schemas), now and at its highest since start: the
+// part of the daemon's resident memory that grows with the database until
+// each connection's page cache (2 MiB by default) is full.
+struct SqliteMemory {
+    std::int64_t used_bytes = 0;
+    std::int64_t peak_bytes = 0;
+};
+SqliteMemory sqlite_memory();
+
 class Db {
 public:
     // Opens (creating when allowed) with the full-mutex-free threading mode:

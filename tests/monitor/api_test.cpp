@@ -67,6 +67,11 @@ TEST_CASE("the API answers every endpoint and refuses what it should") {
         CHECK(j["sources"][0]["name"] == "frame");
         CHECK(j["profiles"] == json({"plate", "sheet"}));
         CHECK(j["recorder"]["frames_dropped"] == 0);
+        // SQLite's own count of the heap it holds (sqlite3_memory_used, SQLite
+        // C interface docs): the daemon has connections open, so it is above
+        // zero, and never above its high-water mark.
+        CHECK(j["memory"]["sqlite_bytes"].get<std::int64_t>() > 0);
+        CHECK(j["memory"]["sqlite_bytes"].get<std::int64_t>() <= j["memory"]["sqlite_peak_bytes"].get<std::int64_t>());
 
         auto m = http(p, "GET", "/metrics");
         REQUIRE(m.status == 200);
