@@ -35,42 +35,9 @@ done
 command -v curl >/dev/null || { echo "long_run_memory.sh: curl is needed" >&2; exit 2; }
 if [ -z "$out" ]; then out=$(mktemp -d); keep=0; else rm -rf "$out"; mkdir -p "$out"; keep=1; fi
 
-free_port() { python3 -c 'import socket; s=socket.socket(); s.bind(("127.0.0.1",0)); print(s.getsockname()[1])'; }
+. "$here/bench/rig_harness.sh"
 sim_port=$(free_port)
-cat >"$out/rig.toml" <<EOF
-[daemon]
-data_dir = "$out/data"
-[monitor]
-listen = "127.0.0.1"
-port = 0
-token_file = "$out/monitor.token"
-[rig]
-name = "harbourline-long-run"
-[run]
-profile = "bar"
-[profile.bar]
-proof_offsets_pct = [0.2]
-[source.frame]
-kind = "tcp"
-host = "127.0.0.1"
-port = $sim_port
-retry_min_ms = 100
-retry_max_ms = 500
-format = "lines"
-time_field = 0
-  [[source.frame.channel]]
-  name = "force"
-  unit = "N"
-  field = 1
-  [[source.frame.channel]]
-  name = "extension"
-  unit = "mm"
-  field = 2
-  [[source.frame.channel]]
-  name = "crosshead"
-  unit = "mm"
-  field = 3
-EOF
+write_tcp_rig "$out" harbourline-long-run "$sim_port" 1
 
 daemon=0 sim=0
 cleanup() {
@@ -80,21 +47,11 @@ cleanup() {
 }
 trap cleanup EXIT
 
-"$bindir/tensiled" --config "$out/rig.toml" >"$out/tensiled.out" 2>&1 &
-daemon=$!
-port=""
-for _ in $(seq 100); do
-    port=$(grep -o 'monitor http://127.0.0.1:[0-9]*' "$out/tensiled.out" 2>/dev/null | grep -o '[0-9]*$' || true)
-    [ -n "$port" ] && break
-    sleep 0.1
-done
-[ -n "$port" ] || { cat "$out/tensiled.out"; echo "long_run_memory.sh: tensiled did not start" >&2; exit 1; }
-token=$(cat "$out/monitor.token")
-api() { curl -s --max-time 5 "http://127.0.0.1:$port/api/v1/$1"; }
+start_daemon "$bindir" "$out"
 rss() { awk '/^VmRSS/ {print $2}' "/proc/$daemon/status"; }
 
 arm='{"specimen": {"label": "HM-LONG", "shape": "round", "diameter_mm": 12.5, "gauge_length_mm": 62.5}}'
-curl -s --max-time 5 -X POST -H "Authorization: Bearer $token" -d "$arm" "http://127.0.0.1:$port/api/v1/arm" >/dev/null
+arm "$arm"
 echo "elapsed_s,rss_kib" >"$out/rss.csv"
 t0=$(date +%s.%N)
 echo "0,$(rss)" >>"$out/rss.csv"

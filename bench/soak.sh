@@ -51,43 +51,9 @@ command -v curl >/dev/null || { echo "soak.sh: curl is needed" >&2; exit 2; }
 
 rm -rf "$out"
 mkdir -p "$out"
-free_port() { python3 -c 'import socket; s=socket.socket(); s.bind(("127.0.0.1",0)); print(s.getsockname()[1])'; }
+. "$here/bench/rig_harness.sh"
 sim_port=$(free_port)
-cat >"$out/rig.toml" <<EOF
-[daemon]
-data_dir = "$out/data"
-[monitor]
-listen = "127.0.0.1"
-port = 0
-token_file = "$out/monitor.token"
-[rig]
-name = "harbourline-soak"
-[run]
-profile = "bar"
-[profile.bar]
-proof_offsets_pct = [0.2]
-[source.frame]
-kind = "tcp"
-host = "127.0.0.1"
-port = $sim_port
-retry_min_ms = 100
-retry_max_ms = 500
-format = "lines"
-time_field = 0
-clock_pace = 10
-  [[source.frame.channel]]
-  name = "force"
-  unit = "N"
-  field = 1
-  [[source.frame.channel]]
-  name = "extension"
-  unit = "mm"
-  field = 2
-  [[source.frame.channel]]
-  name = "crosshead"
-  unit = "mm"
-  field = 3
-EOF
+write_tcp_rig "$out" harbourline-soak "$sim_port" 10
 
 daemon=0 sim=0
 cleanup() {
@@ -96,17 +62,7 @@ cleanup() {
 }
 trap cleanup EXIT
 
-"$bindir/tensiled" --config "$out/rig.toml" >"$out/tensiled.out" 2>&1 &
-daemon=$!
-port=""
-for _ in $(seq 100); do
-    port=$(grep -o 'monitor http://127.0.0.1:[0-9]*' "$out/tensiled.out" 2>/dev/null | grep -o '[0-9]*$' || true)
-    [ -n "$port" ] && break
-    sleep 0.1
-done
-[ -n "$port" ] || { cat "$out/tensiled.out"; echo "soak.sh: tensiled did not start" >&2; exit 1; }
-token=$(cat "$out/monitor.token")
-api() { curl -s --max-time 5 "http://127.0.0.1:$port/api/v1/$1"; }
+start_daemon "$bindir" "$out"
 arm='{"specimen": {"label": "HM-SOAK", "shape": "round", "diameter_mm": 12.5, "gauge_length_mm": 62.5}}'
 
 echo "elapsed_s,rss_kib,open_fds,frames,records,bad_records,lost_frames,frames_dropped,frames_committed,write_errors,runs,runs_finished,sqlite_kib" >"$out/soak.csv"
@@ -134,7 +90,7 @@ start=$(date +%s)
 next_sample=$start
 seed=1
 while [ $(( $(date +%s) - start )) -lt "$seconds" ]; do
-    curl -s --max-time 5 -X POST -H "Authorization: Bearer $token" -d "$arm" "http://127.0.0.1:$port/api/v1/arm" >/dev/null
+    arm "$arm"
     "$bindir/tensile-sim" --material harbourline-1018cd-lot3 --tcp "127.0.0.1:$sim_port" --realtime --speed 10 \
         --rate 1000 --seed "$seed" --fault disconnect@30+1 --truth "$out/truth-last.json" >/dev/null 2>&1 &
     sim=$!

@@ -6,13 +6,16 @@
 #include <random>
 #include <sstream>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "engine/least_squares.hpp"
 
 using namespace tensile;
 
-TEST_CASE("straight-line fit matches the NIST StRD Norris certified values") {
+namespace {
+// The NIST StRD Norris data set (x, y), as shipped in tests/data.
+std::pair<std::vector<double>, std::vector<double>> norris() {
     std::ifstream in(std::string(TENSILE_DATA_DIR) + "/nist_strd_norris.csv");
     REQUIRE(in);
     std::vector<double> x, y;
@@ -26,6 +29,12 @@ TEST_CASE("straight-line fit matches the NIST StRD Norris certified values") {
         x.push_back(a);
         y.push_back(b);
     }
+    return {x, y};
+}
+}  // namespace
+
+TEST_CASE("straight-line fit matches the NIST StRD Norris certified values") {
+    auto [x, y] = norris();
     REQUIRE(x.size() == 36);
     auto fit = fit_line(x, y);
     REQUIRE(fit);
@@ -54,19 +63,7 @@ TEST_CASE("a range and its two halves fitted together are the fits made one by o
     // fit_line_split must give fit_line's own result for each part, bit for
     // bit (the same sums in the same order): on the NIST StRD Norris data and
     // on a noisy line with a flat stretch (a half whose x does not vary).
-    std::ifstream in(std::string(TENSILE_DATA_DIR) + "/nist_strd_norris.csv");
-    REQUIRE(in);
-    std::vector<double> nx, ny;
-    std::string line;
-    while (std::getline(in, line)) {
-        if (line.empty() || line[0] == '#' || line[0] == 'x') continue;
-        std::istringstream row(line);
-        double a = 0, b = 0;
-        char comma = 0;
-        row >> a >> comma >> b;
-        nx.push_back(a);
-        ny.push_back(b);
-    }
+    auto [nx, ny] = norris();
     std::mt19937_64 rng(11);
     std::normal_distribution<double> noise(0.0, 0.01);
     std::vector<double> gx, gy;
