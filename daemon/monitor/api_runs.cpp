@@ -128,9 +128,9 @@ Result<FramesQuery> parse_frames_query(const Query& q) {
 Reply list_runs(storage::Store& store, const storage::RunFilter& filter) {
     auto runs = store.list_runs(filter);
     if (!runs) return error_reply(500, "database: " + runs.error());
-    // Written one run at a time: a document of every run first costs about
-    // 2 KB a run (the limit allows 10,000), which the allocator keeps after
-    // the reply; the text alone is about 300 bytes a run.
+    // Written one run at a time: a document of every run first cost about
+    // 4 KB a run with its text (the limit allows 10,000), which the allocator
+    // kept after the reply; the text alone is about 300 bytes a run.
     Reply reply{200, "application/json", "{\"count\":" + std::to_string(runs->size()) + ",\"runs\":[", {}};
     for (std::size_t i = 0; i < runs->size(); ++i) {
         if (i > 0) reply.body += ',';
