@@ -86,8 +86,13 @@ bool parse_number(std::string_view cell, bool decimal_comma, double& out) {
     if (cell.size() >= sizeof buf) return false;
     std::size_t n = 0;
     for (char c : cell) buf[n++] = decimal_comma && c == ',' ? '.' : c;
+    // from_chars takes no '+'; one is allowed before digits (strtod's
+    // grammar), never before another sign ("+-1" is not a number).
     const char* first = buf;
-    if (*first == '+') ++first;
+    if (n > 1 && buf[0] == '+') {
+        if (buf[1] == '-') return false;
+        ++first;
+    }
     auto [ptr, ec] = std::from_chars(first, buf + n, out);
     return ec == std::errc() && ptr == buf + n && std::isfinite(out);
 }

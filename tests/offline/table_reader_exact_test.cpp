@@ -189,7 +189,10 @@ TEST_CASE("bad cells in any of the ways a plain number can go wrong are named by
     std::string text = "time_s;force_N;extension_mm\n";
     for (int i = 0; i < 300; ++i) text += std::to_string(i) + ",5;1" + std::to_string(i) + ",25;0,25\r\n";
     // Line 302 is the bad one (header on line 1).
-    for (const std::string bad : {"1e", "1e+", "+", "1,2,3", "1 2", "- 1", "1e5x", "0x1p3", "inf", "1e400"}) {
+    // Each also refused by strtod or out of a double's range; the C standard's
+    // strtod grammar allows one optional sign, so "+-1" and the like are not numbers.
+    for (const std::string bad : {"1e", "1e+", "+", "1,2,3", "1 2", "- 1", "1e5x", "0x1p3", "inf", "1e400", "+-1", "-+1",
+                                  "++1", "--1"}) {
         INFO("cell '" << bad << "'");
         const auto r = read_table(text + "300,5;" + bad + ";0,25\r\n");
         REQUIRE_FALSE(r);
