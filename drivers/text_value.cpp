@@ -21,7 +21,8 @@ Reading read_value(std::string_view field, const ChannelUnit& unit) {
 
     const char* first = field.data();
     const char* last = first + field.size();
-    if (*first == '+') ++first;  // from_chars does not take a leading '+'
+    // from_chars does not take a leading '+'; one sign at most ("+-1" is no number).
+    if (*first == '+' && ++first != last && *first == '-') return {};
     double number = 0.0;
     const auto [end, ec] = std::from_chars(first, last, number, std::chars_format::general);
     if (ec == std::errc::result_out_of_range) number = (*first == '-') ? -HUGE_VAL : HUGE_VAL;  // counted out of range

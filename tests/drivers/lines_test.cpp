@@ -117,6 +117,20 @@ TEST_CASE("lines: corrupted stream resyncs with exact counters", "[lines][corrup
     check_split_invariance(cfg, stream);
 }
 
+TEST_CASE("lines: one sign at most before a reading", "[lines][corrupt]") {
+    // C's strtod grammar (and from_chars, less the '+'): one optional sign.
+    const std::string stream = "184233200,+1523.42 N,0.01 mm,1.2 mm\n"
+                               "184233300,+-1523.42 N,0.01 mm,1.2 mm\n"
+                               "184233400,-+1523.42 N,0.01 mm,1.2 mm\n"
+                               "184233500,1523.42 N,-0.01 mm,1.2 mm\n";
+    const Run r = run_whole(three_channels(), stream, /*break_at_end=*/false);
+    CHECK(r.counters.stream.bad_records == 2);
+    CHECK(r.counters.stream.records == 2);
+    REQUIRE(r.samples.size() == 6);
+    CHECK(r.samples[0].value == 1523.42);
+    CHECK(r.samples[4].value == -0.01);
+}
+
 TEST_CASE("lines: break_stream drops a partial line as torn", "[lines][corrupt]") {
     const std::string stream = "184233100,1523.42 N,0.01 mm,1.2 mm\n184234000,15";
     const Run r = run_whole(three_channels(), stream, /*break_at_end=*/true);
