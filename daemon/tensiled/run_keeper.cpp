@@ -46,11 +46,12 @@ std::string locked_message(const std::filesystem::path& db, const std::string& w
            "no run is armed until it can be written; close that program and arm again";
 }
 
-// A run's buffers (frame batches, raw chunks, the analyzer's history) are
-// freed when it ends, but glibc keeps freed pages in its per-thread arenas,
-// so over weeks of runs the resident size creeps up by a few KiB a run
-// without any leak. Handing the free pages back once per run keeps the
-// floor flat; it costs about a millisecond, between runs.
+// A run's buffers (frame batches, raw chunks, the analyzer's history: tens
+// of MB for a long run at a high rate) are freed when it ends, but glibc
+// keeps freed pages in its arenas for the next allocation, so an idle
+// daemon would sit at its last run's size. Handing the free pages back
+// between runs returns it. (It was not the cause of the soak's slow rise in
+// memory: that was the run list reply, bench/hardening-results.md 13.)
 void release_free_memory() {
 #if defined(__GLIBC__)
     malloc_trim(0);
