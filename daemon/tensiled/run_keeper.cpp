@@ -48,10 +48,10 @@ std::string locked_message(const std::filesystem::path& db, const std::string& w
 
 // A run's buffers (frame batches, raw chunks, the analyzer's history: tens
 // of MB for a long run at a high rate) are freed when it ends, but glibc
-// keeps freed pages in its arenas for the next allocation, so an idle
-// daemon would sit at its last run's size. Handing the free pages back
-// between runs returns it. (It was not the cause of the soak's slow rise in
-// memory: that was the run list reply, bench/hardening-results.md 13.)
+// keeps freed pages in its arenas for the next allocation. Handing the
+// pages it holds free back to the system between runs keeps them from
+// staying with an idle daemon. (They were not the cause of the soak's slow
+// rise in memory: that was the run list reply, bench/hardening-results.md 13.)
 void release_free_memory() {
 #if defined(__GLIBC__)
     malloc_trim(0);
