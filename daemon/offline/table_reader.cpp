@@ -2,6 +2,7 @@
 #include "table_reader.hpp"
 
 #include "plain_number.hpp"
+#include "table_start.hpp"
 
 #include <algorithm>
 #include <cctype>
@@ -216,8 +217,10 @@ namespace {
 
 Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Batch& sink) {
     TableInfo table;
-    std::vector<std::string_view> cells;
-    std::size_t pos = 0, line_no = 0;
+    std::vector<std::string_view> cells, units;
+    // Past a byte-order mark and any notes above the column names.
+    const TableStart start = locate_table(text);
+    std::size_t pos = start.begin, line_no = start.lines_before;
     char sep = 0;
     bool decimal_comma = false;
     int col[4] = {layout.time_column, layout.force_column, layout.extension_column, layout.crosshead_column};
@@ -261,10 +264,11 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
         const void* nl = std::memchr(text.data() + pos, '\n', text.size() - pos);
         const std::size_t end = nl ? static_cast<std::size_t>(static_cast<const char*>(nl) - text.data()) : text.size();
         std::string_view line = text.substr(pos, end - pos);
+        const bool units_row = pos == start.units_at;  // read with the header
         pos = end + 1;
         ++line_no;
         if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
-        if (line.empty() || line.front() == '#' || trim(line).empty()) continue;
+        if (units_row || line.empty() || line.front() == '#' || trim(line).empty()) continue;
 
         if (!sep) {
             // The separator is whichever of tab, ';' or ',' the first line uses
@@ -278,8 +282,14 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
             double probe = 0;
             if (!parse_number(cells[0], sep != ',', probe)) {  // a header line
                 width = cells.size();
+                units.clear();
+                if (start.units_at != TableStart::none) {
+                    const std::string_view rest = text.substr(start.units_at);
+                    split(rest.substr(0, rest.find('\n')), sep, units);
+                }
                 for (std::size_t c = 0; c < cells.size(); ++c) {
-                    const auto h = understand(cells[c]);
+                    auto h = understand(cells[c]);
+                    if (h.unit.empty() && c < units.size()) h.unit = std::string(bare_unit(units[c]));
                     if (h.quantity == Quantity::other) continue;
                     int& slot = col[static_cast<int>(h.quantity)];
                     if (slot == 0) slot = static_cast<int>(c + 1);
@@ -368,7 +378,11 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
     }
     if (table.frames == 0) return Error{"no data rows: expected lines of numbers after an optional header"};
     table.notes.push_back(std::string("separator '") + (sep == '\t' ? "tab" : std::string(1, sep)) + "'" +
-                          (decimal_comma ? ", decimal comma" : ""));
+                          (decimal_comma ? ", decimal comma" : "") +
+                          (start.preamble_lines > 0 ? ", " + std::to_string(start.preamble_lines) +
+                                                          " line(s) of notes above the column names skipped"
+                                                    : std::string()) +
+                          (start.units_at != TableStart::none ? ", units from the row under the names" : ""));
     return table;
 }
 

@@ -157,12 +157,25 @@ public:
             ::madvise(static_cast<char*>(data_) + released_, end - released_, MADV_DONTNEED);
             released_ = end;
         }
+        populate_upto(offset + 2 * step);
+    }
+
+    void populate_upto(std::size_t offset) {
+#ifdef MADV_POPULATE_READ
+        static const auto page = static_cast<std::size_t>(::sysconf(_SC_PAGESIZE));
+        const std::size_t end = std::min(offset, size_) / page * page;
+        if (end >= populated_ + step / 4 || (end == size_ / page * page && end > populated_)) {
+            ::madvise(static_cast<char*>(data_) + populated_, end - populated_, MADV_POPULATE_READ);
+            populated_ = end;
+        }
+#endif
     }
 
 private:
     void* data_ = nullptr;
     std::size_t size_ = 0;
     std::size_t released_ = 0;
+    std::size_t populated_ = 0;
 };
 
 // The analyzer's history is about 15 MB of fresh memory (History: 2^18 rows
