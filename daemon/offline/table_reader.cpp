@@ -39,7 +39,11 @@ void split(std::string_view line, char sep, std::vector<std::string_view>& cells
     }
 }
 
-enum class Quantity { time, force, extension, crosshead, other };
+// Stress and strain stand in for force and extension when a table has only
+// those (a curve exported as stress–strain): force = stress·S0, extension =
+// strain·L0.
+enum class Quantity { time, force, extension, crosshead, stress, strain, other };
+constexpr int quantities = 6;
 
 struct HeaderColumn {
     Quantity quantity = Quantity::other;
@@ -66,6 +70,8 @@ HeaderColumn understand(std::string_view raw) {
     else if (key == "force" || key == "load" || key == "f") c.quantity = Quantity::force;
     else if (key == "extension" || key == "ext" || key == "extensometer") c.quantity = Quantity::extension;
     else if (key == "crosshead" || key == "position" || key == "xh") c.quantity = Quantity::crosshead;
+    else if (key == "stress" || key == "engineering stress" || key == "tensile stress") c.quantity = Quantity::stress;
+    else if (key == "strain" || key == "engineering strain" || key == "tensile strain") c.quantity = Quantity::strain;
     return c;
 }
 
@@ -109,6 +115,8 @@ const char* quantity_name(Quantity q) {
         case Quantity::force: return "force";
         case Quantity::extension: return "extension";
         case Quantity::crosshead: return "crosshead";
+        case Quantity::stress: return "stress";
+        case Quantity::strain: return "strain";
         case Quantity::other: return "other";
     }
     return "?";
@@ -121,7 +129,7 @@ const char* quantity_name(Quantity q) {
 // the careful path counts), or 0 when the row needs the careful path, which
 // reads it again and names any fault.
 std::size_t fast_row(std::string_view text, std::size_t pos, char sep, char point,
-                     const std::vector<int>& quantity_at, double* const dest[4]) {
+                     const std::vector<int>& quantity_at, double* const dest[quantities]) {
     const char* p = text.data() + pos;
     const char* const end = text.data() + text.size();
     const std::size_t wanted = quantity_at.size();
@@ -204,6 +212,49 @@ private:
 
 Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Batch& sink);
 
+// MPa per unit of a stress column (NIST SP 811: 1 psi = 6.894 757 kPa).
+std::optional<double> stress_factor(std::string_view u) {
+    if (u == "MPa" || u == "N/mm2" || u == "N/mm²" || u == "N/mm^2") return 1.0;
+    if (u == "psi") return 6.894757e-3;
+    if (u == "ksi") return 6.894757;
+    if (u == "GPa") return 1000.0;
+    return std::nullopt;
+}
+
+// Fraction per unit of a strain column.
+std::optional<double> strain_factor(std::string_view u) {
+    if (u == "%" || u == "pct") return 0.01;
+    if (u == "mm/mm" || u == "in/in" || u == "-" || u == "1") return 1.0;
+    return std::nullopt;
+}
+
+// A stress column stands in for force only with S0 known, a strain column
+// for extension only with L0 known, and each only with its unit stated: a
+// bare 'strain' could be a fraction or a percentage, and a guess would scale
+// every strain result by 100.
+std::optional<std::string> check_stand_ins(const int col[quantities], const std::string unit[2], const TableLayout& layout,
+                                           double& stress_scale, double& strain_scale, std::vector<std::string>& notes) {
+    if (col[4] > 0) {
+        const std::string where = "column " + std::to_string(col[4]) + " (stress)";
+        if (!layout.area_mm2) return where + " stands in for force, which needs the cross-section S0; give it (--area, --width and --thickness...)";
+        auto f = stress_factor(unit[0]);
+        if (!f) return where + (unit[0].empty() ? " gives no unit" : " has unit '" + unit[0] + "', not one we know") +
+                       "; expected MPa, N/mm2, psi or ksi in its name (stress_MPa, Stress (MPa)) or in a units row";
+        stress_scale = *f;
+        notes.push_back("force from the stress column × S0");
+    }
+    if (col[5] > 0) {
+        const std::string where = "column " + std::to_string(col[5]) + " (strain)";
+        if (!layout.gauge_length_mm) return where + " stands in for extension, which needs the gauge length L0; give it (--gauge-length)";
+        auto f = strain_factor(unit[1]);
+        if (!f) return where + (unit[1].empty() ? " gives no unit" : " has unit '" + unit[1] + "', not one we know") +
+                       "; expected %, pct, mm/mm, in/in or - in its name (strain_pct, Strain (%)) or in a units row";
+        strain_scale = *f;
+        notes.push_back("extension from the strain column × L0");
+    }
+    return std::nullopt;
+}
+
 }  // namespace
 
 Result<TableInfo> scan_table(std::string_view text, const TableLayout& layout, FrameSink& sink) {
@@ -223,7 +274,7 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
     std::size_t pos = start.begin, line_no = start.lines_before;
     char sep = 0;
     bool decimal_comma = false;
-    int col[4] = {layout.time_column, layout.force_column, layout.extension_column, layout.crosshead_column};
+    int col[quantities] = {layout.time_column, layout.force_column, layout.extension_column, layout.crosshead_column, 0, 0};
     double force_scale = layout.force_unit ? newtons_per(*layout.force_unit) : 1.0;
     double length_scale[2] = {1.0, 1.0};
     if (layout.length_unit) length_scale[0] = length_scale[1] = millimetres_per(*layout.length_unit);
@@ -233,12 +284,20 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
     int wanted = 0;                 // the last column read
     std::vector<int> quantity_at;   // column → quantity read from it (-1: skipped)
 
+    // Stress (as MPa) and strain (as a fraction) when they stand in for force
+    // and extension, and the factors that bring them there.
+    double stress_MPa = absent, strain = absent;
+    double stress_scale = 1.0, strain_scale = 1.0;
+    std::string stand_in_unit[2];  // as the header gives them: stress, strain
+
     // Scales a row's values into frame units and hands the frame on.
     auto deliver = [&](Frame& f) {
         if (col[0] == 0) f.time_s = static_cast<double>(table.frames) / *layout.rate_hz;
         else f.time_s *= time_scale;
-        f.force_N *= force_scale;
-        f.extension_mm *= length_scale[0];
+        if (col[4] > 0) f.force_N = stress_MPa * stress_scale * *layout.area_mm2;
+        else f.force_N *= force_scale;
+        if (col[5] > 0) f.extension_mm = strain * strain_scale * *layout.gauge_length_mm;
+        else f.extension_mm *= length_scale[0];
         f.crosshead_mm *= length_scale[1];
         sink.take(f);
     };
@@ -251,7 +310,7 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
             const unsigned char c0 = static_cast<unsigned char>(text[pos]);
             if (static_cast<unsigned>(c0 - '0') < 10u || c0 == '-' || c0 == '.') {
                 Frame f;
-                double* const dest[4] = {&f.time_s, &f.force_N, &f.extension_mm, &f.crosshead_mm};
+                double* const dest[quantities] = {&f.time_s, &f.force_N, &f.extension_mm, &f.crosshead_mm, &stress_MPa, &strain};
                 if (const std::size_t next = fast_row(text, pos, sep, decimal_comma ? ',' : '.', quantity_at, dest)) {
                     pos = next;
                     ++line_no;
@@ -305,6 +364,8 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
                         if (!u) return Error{"line " + std::to_string(line_no) + ", column " + std::to_string(c + 1) +
                                              ": unknown length unit '" + h.unit + "'; expected mm, um or in"};
                         length_scale[h.quantity == Quantity::extension ? 0 : 1] = millimetres_per(*u);
+                    } else if (h.quantity == Quantity::stress || h.quantity == Quantity::strain) {
+                        stand_in_unit[h.quantity == Quantity::stress ? 0 : 1] = h.unit;  // judged below, if used
                     } else if (h.quantity == Quantity::time && layout.time_scale == 1.0) {
                         if (h.unit == "ms") time_scale = 0.001;
                         else if (h.unit == "min") time_scale = 60.0;
@@ -323,22 +384,30 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
                 col[3] = width >= 4 ? 4 : 0;
             }
         }
-        if (col[1] == 0)
-            return Error{"no force column: name one in the header (force, force_N, force_kN...) or give --columns force=N"};
+        if (table.frames == 0) {
+            // Stress and strain only stand in for a missing force or extension.
+            if (col[1] > 0) col[4] = 0;
+            if (col[2] > 0) col[5] = 0;
+            if (auto bad = check_stand_ins(col, stand_in_unit, layout, stress_scale, strain_scale, table.notes))
+                return Error{*bad};
+        }
+        if (col[1] == 0 && col[4] == 0)
+            return Error{"no force column: name one in the header (force, force_N, force_kN..., or stress_MPa with "
+                         "the cross-section given) or give --columns force=N"};
         if (col[0] == 0 && !layout.rate_hz)
             return Error{"no time column: name one in the header (time_s) or give --rate HZ for evenly sampled data"};
         if (table.frames == 0) {
             // Decimal commas: only possible when ',' is not the separator.
             decimal_comma = sep != ',' && line.find(',') != std::string_view::npos;
-            for (int q = 0; q < 4; ++q)
+            for (int q = 0; q < quantities; ++q)
                 if (col[q] > 0) wanted = std::max(wanted, col[q]);
             quantity_at.assign(static_cast<std::size_t>(wanted), -1);
-            for (int q = 0; q < 4; ++q)
+            for (int q = 0; q < quantities; ++q)
                 if (col[q] > 0) quantity_at[static_cast<std::size_t>(col[q] - 1)] = q;
         }
 
         Frame f;
-        double* dest[4] = {&f.time_s, &f.force_N, &f.extension_mm, &f.crosshead_mm};
+        double* dest[quantities] = {&f.time_s, &f.force_N, &f.extension_mm, &f.crosshead_mm, &stress_MPa, &strain};
         // One pass over the row: each wanted cell parsed where it lies.
         const char* p = line.data();
         const char* const row_end = p + line.size();
@@ -377,7 +446,7 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
         if ((++table.frames & 0x3fff) == 0) sink.passed(pos);
     }
     if (table.frames == 0) return Error{"no data rows: expected lines of numbers after an optional header"};
-    table.notes.push_back(std::string("separator '") + (sep == '\t' ? "tab" : std::string(1, sep)) + "'" +
+    table.notes.insert(table.notes.begin(), std::string("separator '") + (sep == '\t' ? "tab" : std::string(1, sep)) + "'" +
                           (decimal_comma ? ", decimal comma" : "") +
                           (start.preamble_lines > 0 ? ", " + std::to_string(start.preamble_lines) +
                                                           " line(s) of notes above the column names skipped"

@@ -2,8 +2,10 @@
 // --format table` and `tensilectl export` write (header
 // `time_s,force_N,extension_mm,crosshead_mm`, extra columns ignored), and the
 // usual variants a lab has lying around: `;` or tab separators, decimal
-// commas, units in the header (`force_kN`, `Force [lbf]`, `ext (in)`), columns
-// picked by number, no time column with a known sample rate.
+// commas, units in the header (`force_kN`, `Force [lbf]`, `ext (in)`) or in a
+// row under it, notes above it and a byte-order mark (table_start.hpp),
+// stress and strain columns instead of force and extension, columns picked
+// by number, no time column with a known sample rate.
 //
 // Pure: text in, frames out. Any bad cell stops the read with one message
 // naming the line, the column and what was expected; nothing half-read is
@@ -34,6 +36,11 @@ struct TableLayout {
     std::optional<LengthUnit> length_unit;
     double time_scale = 1.0;          // seconds per time unit in the file
     std::optional<double> rate_hz;    // when there is no time column
+    // The specimen, for tables that give stress or strain instead of force or
+    // extension (force = stress·S0, extension = strain·L0); without them such
+    // tables are refused.
+    std::optional<double> area_mm2;
+    std::optional<double> gauge_length_mm;
 };
 
 struct Table {

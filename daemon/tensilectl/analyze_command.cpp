@@ -260,7 +260,9 @@ int run(const AnalyzeOptions& o) {
     const auto stress_unit = parse_stress_unit(o.stress_unit);
     if (!stress_unit) throw BadInput{"--stress-unit '" + o.stress_unit + "': expected MPa, ksi or psi"};
     const auto profile = profile_from(o);
-    const auto layout = layout_from(o);
+    auto layout = layout_from(o);
+    layout.area_mm2 = geometry->S0_mm2;  // for tables of stress and strain
+    layout.gauge_length_mm = geometry->L0_mm;
 
     MappedFile file(o.file);
     const std::size_t rows = estimate_rows(file.text());
@@ -290,7 +292,9 @@ int run(const AnalyzeOptions& o) {
         std::cout << j.dump(2) << '\n';
         return 0;
     }
-    std::cout << o.file << ": " << table->frames << " frames, " << table->notes.front() << '\n';
+    std::cout << o.file << ": " << table->frames << " frames";
+    for (const auto& note : table->notes) std::cout << ", " << note;
+    std::cout << '\n';
     if (o.events) {
         for (const auto& e : events) {
             char buf[160];

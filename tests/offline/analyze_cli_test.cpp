@@ -65,6 +65,39 @@ TEST_CASE("analyze reads a recorded run and reports Rp0.2 and Rm as JSON") {
     std::filesystem::remove(path);
 }
 
+// The same test written as stress and strain (σ = F/S0, e = ΔL/L0, ISO 6892-1
+// §3) must give the same answers as written in force and extension.
+TEST_CASE("analyze gives the same results from a stress-strain table as from force and extension") {
+    RigSettings rig;
+    rig.rate_hz = 200;
+    rig.fracture_strain = 0.25;
+    rig.force_noise_share = 0.0005;
+    rig.extension_noise_mm = 0.0003;
+    const auto frames = make_run(hill_curve(68900, 276, 12), rig);
+    const auto plain = write_run("tensiled-analyze-plain.csv", frames);
+    const auto path = (std::filesystem::temp_directory_path() / "tensiled-analyze-stress.csv").string();
+    {
+        std::ofstream out(path);
+        out << "Time (s),Stress (MPa),Strain (%)\n";
+        char line[160];
+        for (const auto& f : frames) {
+            std::snprintf(line, sizeof line, "%.6f,%.9g,%.9g\n", f.time_s, f.force_N / 80.0, 100.0 * f.extension_mm / 80.0);
+            out << line;
+        }
+    }
+    const auto a = run("analyze " + plain + " --area 80 --gauge-length 80 --json");
+    const auto b = run("analyze " + path + " --area 80 --gauge-length 80 --json");
+    REQUIRE(a.code == 0);
+    REQUIRE(b.code == 0);
+    const auto ja = nlohmann::json::parse(a.out), jb = nlohmann::json::parse(b.out);
+    for (const char* key : {"E_MPa", "Rp0.2_MPa", "Rm_MPa", "Ag_pct", "At_pct"})
+        CHECK(jb[key].get<double>() == Approx(ja[key].get<double>()).epsilon(1e-5));
+    const auto text = run("analyze " + path + " --area 80 --gauge-length 80");
+    CHECK_THAT(text.out, Catch::Contains("force from the stress column"));
+    std::filesystem::remove(plain);
+    std::filesystem::remove(path);
+}
+
 TEST_CASE("analyze refuses bad input with a clear message and exit code 2") {
     const auto path = (std::filesystem::temp_directory_path() / "tensiled-analyze-bad.csv").string();
     std::ofstream(path) << "time_s,force_N,extension_mm\n0,1,0\n0.1,1.5x,0.001\n";

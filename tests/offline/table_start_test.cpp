@@ -96,3 +96,40 @@ TEST_CASE("locating the table: what counts as notes, names, units and data") {
     CHECK_FALSE(is_units_row(",,", ','));
     CHECK(bare_unit(" (kN) ") == "kN");
 }
+
+// A curve exported as stress and strain: force = stress·S0 and extension =
+// strain·L0 (the definitions of engineering stress and strain, ISO 6892-1
+// §3); psi and ksi by NIST SP 811 (1 psi = 6.894 757 kPa).
+TEST_CASE("stress and strain columns stand in for force and extension when the specimen is known") {
+    TableLayout layout;
+    layout.area_mm2 = 80;
+    layout.gauge_length_mm = 50;
+    SECTION("MPa and percent") {
+        const auto t = read_table("time_s,stress_MPa,strain_pct\n0,0,0\n1,100,0.05\n", layout);
+        REQUIRE(t);
+        CHECK(t->frames[1].force_N == Approx(8000));
+        CHECK(t->frames[1].extension_mm == Approx(0.025));
+        CHECK_THAT(t->notes.back(), Catch::Contains("strain column"));
+    }
+    SECTION("ksi and mm/mm from a units row") {
+        const auto t = read_table("Time,Stress,Strain\ns,ksi,mm/mm\n0,0,0\n1,10,0.002\n", layout);
+        REQUIRE(t);
+        CHECK(t->frames[1].force_N == Approx(68.94757 * 80));
+        CHECK(t->frames[1].extension_mm == Approx(0.1));
+    }
+    SECTION("a force column wins; a stress column beside it is not read") {
+        const auto t = read_table("time_s,force_N,stress_furlongs,extension_mm\n0,5,x,0.1\n", layout);
+        REQUIRE(t);
+        CHECK(t->frames[0].force_N == 5);
+    }
+    SECTION("a strain without its unit is refused: a fraction and a percentage differ a hundredfold") {
+        const auto bad = read_table("time_s,force_N,Strain\n0,5,0.1\n", layout);
+        REQUIRE_FALSE(bad);
+        CHECK_THAT(bad.error(), Catch::Contains("column 3 (strain) gives no unit") && Catch::Contains("mm/mm"));
+    }
+    SECTION("without the specimen there is no force from stress") {
+        const auto bad = read_table("time_s,stress_MPa,extension_mm\n0,5,0.1\n");
+        REQUIRE_FALSE(bad);
+        CHECK_THAT(bad.error(), Catch::Contains("needs the cross-section S0"));
+    }
+}
