@@ -212,6 +212,29 @@ private:
 
 Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Batch& sink);
 
+// A line whose first cell holds words, not a number (nor nothing).
+bool starts_with_words(std::string_view line, char sep, bool decimal_comma) {
+    const auto cell = trim(line.substr(0, line.find(sep)));
+    double ignored = 0;
+    return !cell.empty() && !parse_number(cell, decimal_comma, ignored);
+}
+
+// The lines of words in `rest` when no row of numbers follows (a footer);
+// nullopt as soon as a line starts with a number.
+std::optional<std::size_t> footer_lines(std::string_view rest) {
+    std::size_t words = 0;
+    while (!rest.empty()) {
+        const std::size_t nl = std::min(rest.find('\n'), rest.size());
+        const auto line = trim(rest.substr(0, nl));
+        rest.remove_prefix(std::min(nl + 1, rest.size()));
+        if (line.empty() || line.front() == '#') continue;
+        const unsigned char c0 = static_cast<unsigned char>(line.front());
+        if (static_cast<unsigned>(c0 - '0') < 10u || c0 == '-' || c0 == '+' || c0 == '.' || c0 == ',' || c0 == ';') return std::nullopt;
+        ++words;
+    }
+    return words;
+}
+
 // MPa per unit of a stress column (NIST SP 811: 1 psi = 6.894 757 kPa).
 std::optional<double> stress_factor(std::string_view u) {
     if (u == "MPa" || u == "N/mm2" || u == "N/mm²" || u == "N/mm^2") return 1.0;
@@ -328,6 +351,15 @@ Result<TableInfo> scan_rows(std::string_view text, const TableLayout& layout, Ba
         ++line_no;
         if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
         if (units_row || line.empty() || line.front() == '#' || trim(line).empty()) continue;
+        // Lines of words after the last row (a summary some instruments
+        // append) end the table. A line of words with rows still to come is
+        // no footer: it is read below and refused, naming the line.
+        if (table.frames > 0 && starts_with_words(line, sep, decimal_comma)) {
+            if (const auto footer = footer_lines(text.substr(std::min(pos, text.size())))) {
+                table.notes.push_back(std::to_string(*footer + 1) + " line(s) of words after the last row ignored");
+                break;
+            }
+        }
 
         if (!sep) {
             // The separator is whichever of tab, ';' or ',' the first line uses

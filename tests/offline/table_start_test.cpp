@@ -133,3 +133,14 @@ TEST_CASE("stress and strain columns stand in for force and extension when the s
         CHECK_THAT(bad.error(), Catch::Contains("needs the cross-section S0"));
     }
 }
+
+TEST_CASE("lines of words after the last row end the table; with rows after them they are an error") {
+    const auto t = read_table("time_s,force_N\n0,1\n1,2\n\nSummary\nMaximum force,2,N\n");
+    REQUIRE(t);
+    CHECK(t->frames.size() == 2);
+    CHECK_THAT(t->notes.back(), Catch::Contains("2 line(s) of words after the last row ignored"));
+
+    const auto bad = read_table("time_s,force_N\n0,1\npaused\n1,2\n");
+    REQUIRE_FALSE(bad);
+    CHECK_THAT(bad.error(), Catch::Contains("line 3") && Catch::Contains("'paused'"));
+}
