@@ -134,7 +134,7 @@ TEST_CASE("stress and strain columns stand in for force and extension when the s
     }
 }
 
-TEST_CASE("lines of words after the last row end the table; with rows after them they are an error") {
+TEST_CASE("lines of words after the last row end the table, and with rows after them they are an error") {
     const auto t = read_table("time_s,force_N\n0,1\n1,2\n\nSummary\nMaximum force,2,N\n");
     REQUIRE(t);
     CHECK(t->frames.size() == 2);
