@@ -26,6 +26,8 @@ dropped=$(sqlite3 "$db" "SELECT coalesce(sum(CAST(message AS INTEGER)), 0) FROM 
 pieces=$(sqlite3 "$db" "SELECT coalesce(sum(CAST(message AS INTEGER)), 0) FROM alarms
                         WHERE kind = 'queue_full' AND message NOT LIKE '% frames dropped%';")
 ours=$(sqlite3 "$db" "SELECT sum(length(data)) FROM frame_chunks;")
+# Raw chunks the recorder packed quickly because it was falling behind.
+grep -o 'run [0-9]*: [0-9]* of [0-9]* raw-byte chunks packed quickly' "$work/log" | head -1 || true
 
 # Event reaction time at the demo's real-time pace (20x), the way a rig runs.
 build/bin/tensiled --demo --demo-speed 20 --demo-runs 2 --demo-data "$work/l" 2>&1 | grep -o 'event reaction time.*' || true

@@ -39,6 +39,8 @@ json recorder_json(const storage::RecorderCounters& c) {
             {"frames_refused_disk", c.frames_refused_disk},
             {"messages_dropped", c.messages_dropped},
             {"raw_bytes_written", c.raw_bytes_written},
+            {"raw_chunks_packed", c.raw_chunks_packed},
+            {"raw_chunks_quick", c.raw_chunks_quick},
             {"write_errors", c.write_errors},
             {"queue_depth", c.frames_waiting},
             {"queue_high_water", c.frame_high_water},
@@ -143,6 +145,10 @@ std::string Api::metrics() const {
     m << "tensiled_recorder_frames_dropped_total " << rc.frames_dropped << '\n';
     metric("tensiled_recorder_write_errors_total", "counter", "Database write errors.");
     m << "tensiled_recorder_write_errors_total " << rc.write_errors << '\n';
+
+    metric("tensiled_recorder_raw_chunks_quick_total", "counter",
+           "Raw-byte chunks packed quickly (less shrinking) because the recorder was falling behind.");
+    m << "tensiled_recorder_raw_chunks_quick_total " << rc.raw_chunks_quick << '\n';
 
     metric("tensiled_recorder_db_locked", "gauge", "1 while another process holds the database's write lock.");
     m << "tensiled_recorder_db_locked " << rc.db_locked << '\n';

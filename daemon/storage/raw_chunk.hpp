@@ -3,8 +3,10 @@
 // back to back and, for each read, its length and arrival time (run clock).
 // In the database a chunk is packed with zstd (level 1: fast enough for a
 // flat-out stream on the recorder's thread, and device text shrinks about
-// fourfold); a chunk that would not shrink, and every row from before
-// packing, is kept plain. The codec is named on the row.
+// fourfold; when the recorder falls behind it packs quickly instead, one of
+// zstd's fast levels, about 1.7x the speed for half the shrinking); a chunk
+// that would not shrink, and every row from before packing, is kept plain.
+// The codec is named on the row; both efforts unpack the same way.
 // Error policy: packing cannot fail (it falls back to plain); unpacking or
 // decoding damaged data returns an error value naming what was wrong.
 #pragma once
@@ -43,7 +45,8 @@ inline constexpr std::string_view raw_codec_zstd = "zstd";
 std::string encode_arrivals(const std::vector<Arrival>& arrivals);
 Result<std::vector<Arrival>> decode_arrivals(std::string_view blob, std::size_t byte_count);
 
-PackedRaw pack_raw(const RawChunk& chunk);
+enum class PackEffort { thorough, quick };
+PackedRaw pack_raw(const RawChunk& chunk, PackEffort effort = PackEffort::thorough);
 // Fills chunk.bytes and chunk.arrivals from a stored row.
 Status unpack_raw(std::string_view codec, std::string_view bytes, std::string_view arrivals, RawChunk& chunk);
 

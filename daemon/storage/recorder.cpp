@@ -98,6 +98,8 @@ RecorderCounters Recorder::counters() const {
         c.db_locked_s = writer_->db_locked_s.load();
         c.lock_episodes = writer_->lock_episodes.load();
         c.backlog_bytes = writer_->backlog_bytes.load();
+        c.raw_chunks_packed = writer_->raw_chunks_packed.load();
+        c.raw_chunks_quick = writer_->raw_chunks_quick.load();
     }
     return c;
 }

@@ -90,6 +90,8 @@ struct RecorderCounters {
     std::uint64_t messages_dropped = 0;     // inbox full or raw byte budget spent
     std::uint64_t raw_bytes_written = 0;
     std::uint64_t raw_bytes_refused = 0;    // no run open, or the disk-space guard
+    std::uint64_t raw_chunks_packed = 0;
+    std::uint64_t raw_chunks_quick = 0;     // of those, packed quickly: the writer was behind
     std::uint64_t commits = 0;
     std::uint64_t write_errors = 0;
     std::size_t frames_waiting = 0;         // in the inbox now

@@ -81,6 +81,7 @@ void Recorder::Writer::run() {
         }
         take_frames(std::span<const Frame>(frames).subspan(pos));
         taken += frames.size();
+        last_take_ = frames.size();
         if (auto result = committer_.take_result()) settle(std::move(*result));
         if (stop) {
             wait_committer();
@@ -100,6 +101,8 @@ void Recorder::Writer::handle(Message& m) {
         if (run_) close_run();
         run_ = begin->run;
         db_full_ = false;  // a new run tries again
+        quick_at_begin_ = raw_chunks_quick.load();
+        packed_at_begin_ = raw_chunks_packed.load();
         // A run may be resumed by a later recorder; continue its numbering
         // (chunks and each source's raw chunks), as stored once the batch in
         // flight is settled.
@@ -207,7 +210,10 @@ void Recorder::Writer::write_raw(RawBuffer& buf) {
     if (!run_ || buf.chunk.bytes.empty()) return;
     auto it = raw_seq_.try_emplace(buf.chunk.source, 0).first;  // numbered from what begin_run found stored
     buf.chunk.seq = it->second++;
-    PackedRaw packed = pack_raw(buf.chunk);
+    const PackEffort effort = behind() ? PackEffort::quick : PackEffort::thorough;
+    PackedRaw packed = pack_raw(buf.chunk, effort);
+    raw_chunks_packed.fetch_add(1, std::memory_order_relaxed);
+    if (effort == PackEffort::quick) raw_chunks_quick.fetch_add(1, std::memory_order_relaxed);
     const std::size_t size = packed.bytes.size() + packed.arrivals.size() + 64;
     queue(RawWrite{*run_, buf.chunk.source, buf.chunk.seq, std::move(packed), buf.first_s, buf.last_s}, size);
     buf.chunk = RawChunk{};
@@ -216,9 +222,24 @@ void Recorder::Writer::write_raw(RawBuffer& buf) {
     buf.last_s.reset();
 }
 
+// Behind: the last take found the inbox a quarter full or more, or raw bytes
+// wait past half their budget: the writer's own work is not keeping up. Then
+// raw chunks are packed quickly (about 1.7x faster, half the shrinking) so it
+// catches up before the inbox fills and frames would be dropped; a rig at a
+// real pace never gets here. Not while another process holds the database:
+// then memory, not time, is short, and the backlog keeps the smaller packing.
+bool Recorder::Writer::behind() const {
+    if (locked_since_) return false;
+    return last_take_ >= inbox_.frame_capacity() / 4 ||
+           raw_in_flight_.load(std::memory_order_relaxed) >= options_.raw_bytes_in_flight / 2;
+}
+
 void Recorder::Writer::close_run() {
     close_chunk();
     for (auto& [source, buf] : raw_) write_raw(buf);
+    const std::uint64_t quick = raw_chunks_quick.load() - quick_at_begin_, all = raw_chunks_packed.load() - packed_at_begin_;
+    if (quick > 0 && options_.log && run_)
+        options_.log->info("recorder: run {}: {} of {} raw-byte chunks packed quickly, the writer being behind", *run_, quick, all);
     raw_.clear();
     raw_seq_.clear();
     run_.reset();

@@ -36,7 +36,8 @@ public:
 
     // Read from other threads.
     std::atomic<std::uint64_t> frames_written{0}, frames_committed{0}, frames_refused_disk{0}, frames_without_run{0},
-        raw_bytes_written{0}, raw_bytes_refused{0}, commits{0}, write_errors{0}, lock_episodes{0};
+        raw_bytes_written{0}, raw_bytes_refused{0}, commits{0}, write_errors{0}, lock_episodes{0},
+        raw_chunks_packed{0}, raw_chunks_quick{0};
     std::atomic<bool> disk_low{false}, db_locked{false};
     std::atomic<double> db_locked_s{0};
     std::atomic<std::size_t> backlog_bytes{0};
@@ -53,6 +54,7 @@ private:
     void close_chunk();                // moves the open chunk to the backlog and starts a new one
     std::optional<FrameChunkRow> tail_row() const;  // the open, partial chunk as a row
     void write_raw(RawBuffer& buffer);  // moves a raw buffer to the backlog
+    bool behind() const;                // packing should be quick, not small
     void close_run();
     void queue(Write w, std::size_t bytes);
     void hand_off();                        // the backlog to the committer, when it is idle
@@ -92,6 +94,8 @@ private:
     std::map<std::string, RawBuffer> raw_;
     std::map<std::string, std::int64_t> raw_seq_;
     std::uint64_t uncommitted_frames_ = 0;
+    std::size_t last_take_ = 0;      // frames the last look at the inbox found waiting
+    std::uint64_t quick_at_begin_ = 0, packed_at_begin_ = 0;  // the counters when the run began
     std::uint64_t reported_frame_drops_ = 0, reported_message_drops_ = 0;
     Clock::time_point next_commit_;
     Clock::time_point next_disk_check_;

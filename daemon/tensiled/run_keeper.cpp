@@ -224,8 +224,14 @@ void RunKeeper::ended(const RunInfo& run, RunState end, const Results& results) 
     recorder_->end_run();
     auto done = recorder_->finish_run(id, state, cause, unix_now_s(), to_json(results).dump());
     if (done.wait_for(close_wait) != std::future_status::ready) {
-        log_->warn("run {} (id {}) ended {}; the database is locked, so it will be stored as soon as the lock is "
-                   "released", run.number, id, name_of(state));
+        // Not an error by itself: a long flat-out run takes seconds to seal
+        // (its digest reads every frame back). Say which case this is.
+        if (recorder_->counters().db_locked)
+            log_->warn("run {} (id {}) ended {}; the database is locked, so it will be stored as soon as the lock is "
+                       "released", run.number, id, name_of(state));
+        else
+            log_->info("run {} (id {}) ended {}; still being written and sealed, it is stored when that is done",
+                       run.number, id, name_of(state));
         return;
     }
     if (auto s = done.get(); !s)

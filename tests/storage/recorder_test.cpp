@@ -210,3 +210,59 @@ TEST_CASE("a database that cannot grow stops recording with an alarm and keeps w
     REQUIRE(*check->step());
     CHECK(check->text(0) == "ok");
 }
+
+// Quick packing is ours to choose, so its check is the reference decoder's:
+// every chunk, quick or thorough, must read back to the bytes that came in.
+TEST_CASE("a writer that falls behind packs raw bytes quickly, and every byte still reads back", "[recorder]") {
+    TempDir dir;
+    const auto path = dir.file("runs.db");
+    const auto run = new_run(path);
+    auto opts = options_for(path);
+    opts.frame_capacity = 4096;
+    opts.raw_chunk_bytes = 1024;
+    auto rec = Recorder::start(opts);
+    REQUIRE(rec.ok());
+    Recorder& r = **rec;
+    r.begin_run(run);
+    std::string sent;
+    char line[64];
+    std::size_t pushed = 0;
+    const auto send_text = [&](int lines, double at) {
+        std::string piece;
+        for (int i = 0; i < lines; ++i) {
+            std::snprintf(line, sizeof line, "%zu,%.3f N,%.4f mm\n", sent.size() + piece.size(), 1523.4 + i, 0.0125 * i);
+            piece += line;
+        }
+        REQUIRE(r.try_push_raw("load-cell", piece, at));
+        sent += piece;
+    };
+    SECTION("at a real pace every chunk is packed thoroughly") {
+        for (int i = 0; i < 40; ++i) {
+            pushed += r.try_push(std::span<const Frame>(frames_from(pushed, 10)));
+            send_text(20, 0.01 * i);
+            std::this_thread::sleep_for(std::chrono::milliseconds(5));
+        }
+        REQUIRE(r.flush().ok());
+        CHECK(r.counters().raw_chunks_packed > 0);
+        CHECK(r.counters().raw_chunks_quick == 0);
+    }
+    SECTION("bursts that fill the inbox past a quarter are packed quickly") {
+        for (int i = 0; i < 40; ++i) {
+            pushed += r.try_push(std::span<const Frame>(frames_from(pushed, 2000)));
+            send_text(60, 0.01 * i);
+            std::this_thread::sleep_for(std::chrono::milliseconds(15));  // the writer takes each burst whole
+        }
+        REQUIRE(r.flush().ok());
+        const auto c = r.counters();
+        CHECK(c.raw_chunks_quick > 0);
+        CHECK(c.frames_dropped == 0);
+        CHECK(c.frames_committed == pushed);
+    }
+    r.end_run();
+    r.stop();
+    auto store = Store::open(path);
+    REQUIRE(store.ok());
+    std::string back;
+    REQUIRE(store->for_each_raw_chunk(run, [&](const RawChunk& ch) { back += ch.bytes; }).ok());
+    CHECK(back == sent);
+}
