@@ -1,6 +1,7 @@
 // Fuzz target for the CSV reader of `tensilectl analyze`
 // (daemon/offline/table_reader): each input is read as a table with the
 // header-driven layout, as a table without a time column at a known rate,
+// with a specimen (stress and strain may stand in for force and extension),
 // and through the pipelined reader the command uses (two threads, bounded
 // queue). The first line is also tried as a --columns spec. Every input must
 // end in frames or one message; the two readers must agree on the outcome
@@ -35,6 +36,13 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
     tensile::TableLayout by_rate;
     by_rate.rate_hz = 1000;
     (void)tensile::read_table(text, by_rate);
+
+    // With the specimen known, stress and strain columns stand in for force
+    // and extension (the other path through the reader).
+    tensile::TableLayout specimen;
+    specimen.area_mm2 = 80;
+    specimen.gauge_length_mm = 50;
+    (void)tensile::read_table(text, specimen);
 
     const auto first_line = text.substr(0, text.find('\n'));
     if (auto spec = tensile::parse_column_spec(first_line)) (void)tensile::read_table(text.substr(first_line.size()), *spec);
