@@ -49,7 +49,7 @@ struct FormatConfig {
 
     // lines
     char separator = ',';
-    std::optional<int> time_field;     // field holding device time in µs
+    std::optional<int> time_field;     // field holding device time (in time units, µs by default)
     std::optional<int> counter_field;  // field holding a sample counter
     int field_count = 0;               // fields per record; 0 = highest configured position + 1
     // keyvalue
@@ -57,6 +57,10 @@ struct FormatConfig {
     std::string counter_key;           // empty = none
     // lines and keyvalue
     std::size_t max_line = 512;        // longer lines are discarded and counted
+    // Microseconds per unit of the device time on the wire: 1 for µs (an
+    // integer), 1000 for ms and 1e6 for s (decimals allowed). Stamps are kept
+    // in whole µs either way.
+    double time_us_per_unit = 1.0;
     // all
     double nominal_rate_hz = 0.0;      // needed when a counter stamps the samples
     bool keep_nan = false;             // emit `nan` readings as flagged samples instead of skipping them

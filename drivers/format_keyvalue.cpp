@@ -97,7 +97,8 @@ private:
             if (c == config_.channels.size()) {
                 ++unknown;
                 if (ends_with_stamp_key(key)) {
-                    if (const auto v = read_unsigned(val)) glued_stamp = *v;
+                    const bool counter = !config_.counter_key.empty() && key.ends_with(config_.counter_key);
+                    if (const auto v = counter ? read_unsigned(val) : read_stamp_us(val, config_.time_us_per_unit)) glued_stamp = *v;
                 }
                 unknown_value = val;
                 current = &unknown_value;  // an unknown pair may carry a suffix too
@@ -114,7 +115,7 @@ private:
         r.stamp = 0;
         r.bytes = line.size();
         if (have_stamp) {
-            const auto v = read_unsigned(stamp_text);
+            const auto v = stamp_is_counter ? read_unsigned(stamp_text) : read_stamp_us(stamp_text, config_.time_us_per_unit);
             if (!v) return discard(line.size(), true);
             r.kind = stamp_is_counter ? Stamp::counter : Stamp::device_us;
             r.stamp = *v;

@@ -100,7 +100,8 @@ private:
         r.stamp = 0;
         r.bytes = line.size();
         if (config_.time_field || config_.counter_field) {
-            const auto v = read_unsigned(f[static_cast<std::size_t>(config_.time_field ? *config_.time_field : *config_.counter_field)]);
+            const auto v = config_.time_field ? read_stamp_us(f[static_cast<std::size_t>(*config_.time_field)], config_.time_us_per_unit)
+                                              : read_unsigned(f[static_cast<std::size_t>(*config_.counter_field)]);
             if (!v) return discard(line.size(), true);
             r.kind = config_.time_field ? Stamp::device_us : Stamp::counter;
             r.stamp = *v;

@@ -101,7 +101,13 @@ SourceConfig load_source(const toml::table& t, const std::string& path, const Pa
             r.fail("separator", "one character such as \",\", \";\", \" \" or \"\\t\"", t.get("separator"));
         f.separator = (*sep)[0];
     }
-    if (const auto v = r.integer("time_field", 0, 63, "the field position of the device time in µs, 0 to 63")) f.time_field = static_cast<int>(*v);
+    if (const auto v = r.integer("time_field", 0, 63, "the field position of the device time, 0 to 63")) f.time_field = static_cast<int>(*v);
+    if (const auto unit = r.text("time_unit", "the unit of the device time: \"us\", \"ms\" or \"s\"")) {
+        if (*unit == "us" || *unit == "µs") f.time_us_per_unit = 1.0;
+        else if (*unit == "ms") f.time_us_per_unit = 1e3;
+        else if (*unit == "s") f.time_us_per_unit = 1e6;
+        else r.fail("time_unit", "the unit of the device time: \"us\", \"ms\" or \"s\"", t.get("time_unit"));
+    }
     if (const auto v = r.integer("counter_field", 0, 63, "the field position of the sample counter, 0 to 63")) f.counter_field = static_cast<int>(*v);
     f.field_count = static_cast<int>(r.integer("field_count", 1, 64, "the number of fields per line, 1 to 64").value_or(0));
     f.time_key = r.text_or("time_key", "t", "the key of the device time, e.g. \"t\"");

@@ -56,4 +56,16 @@ std::optional<std::uint64_t> read_unsigned(std::string_view field) {
     return v;
 }
 
+std::optional<std::uint64_t> read_stamp_us(std::string_view field, double us_per_unit) {
+    if (us_per_unit == 1.0) return read_unsigned(field);
+    field = trim(field);
+    if (field.empty() || !(field.front() >= '0' && field.front() <= '9')) return std::nullopt;  // no sign, no nan
+    double v = 0.0;
+    const auto [end, ec] = std::from_chars(field.data(), field.data() + field.size(), v, std::chars_format::fixed);
+    if (ec != std::errc{} || end != field.data() + field.size()) return std::nullopt;
+    const double us = std::round(v * us_per_unit);
+    if (!(us < 9.2e18)) return std::nullopt;
+    return static_cast<std::uint64_t>(us);
+}
+
 }  // namespace tensile::drivers

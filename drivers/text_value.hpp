@@ -18,6 +18,12 @@ Reading read_value(std::string_view field, const ChannelUnit& unit);
 // Unsigned decimal integer (device time in µs or a counter), trimmed.
 std::optional<std::uint64_t> read_unsigned(std::string_view field);
 
+// Device time in whole µs from a field in units of `us_per_unit` µs: an
+// integer when that is 1, else a non-negative decimal number ("12.345678"
+// seconds) rounded to the nearest µs. Trimmed; nullopt when it is no such
+// number or too large for 64 bits.
+std::optional<std::uint64_t> read_stamp_us(std::string_view field, double us_per_unit);
+
 std::string_view trim(std::string_view s);
 
 }  // namespace tensile::drivers

@@ -109,6 +109,17 @@ TEST_CASE("keyvalue: counter key stamps samples as a counter", "[keyvalue]") {
     CHECK(r.samples[0].stamp == 42u);
 }
 
+TEST_CASE("keyvalue: device time in seconds reads to whole µs stamps", "[keyvalue]") {
+    FormatConfig cfg = kv_channels();
+    cfg.time_us_per_unit = 1e6;
+    const std::string in = "t=184.2331 F=1523.42 ext=0.01234 xh=1.2345\nt=184.234100 F=1524 ext=0.01235 xh=1.2346\n";
+    const Run r = run_whole(cfg, in);
+    REQUIRE(r.samples.size() == 6);
+    CHECK(r.samples[0].stamp == 184233100u);  // 1 s = 10^6 µs
+    CHECK(r.samples[3].stamp == 184234100u);
+    check_split_invariance(cfg, in);
+}
+
 TEST_CASE("keyvalue: bad configuration is refused at start-up", "[keyvalue][config]") {
     const auto reg = builtin_formats();
     FormatConfig cfg = kv_channels();

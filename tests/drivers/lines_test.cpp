@@ -221,6 +221,33 @@ TEST_CASE("lines: separators, counter stamps and no stamp", "[lines]") {
     }
 }
 
+// Instruments that stamp in seconds or milliseconds with decimals: the same
+// instants as the µs stream, kept in whole µs (1 s = 10^6 µs, SI).
+TEST_CASE("lines: device time in seconds or milliseconds reads to the same µs stamps", "[lines]") {
+    FormatConfig us = three_channels();
+    const std::string in_us = "184233100,1523.42 N,0.01234 mm,1.2345 mm\n184234100,1524.01 N,0.01235 mm,1.2346 mm\n";
+    FormatConfig s = us;
+    s.time_us_per_unit = 1e6;
+    const std::string in_s = "184.2331,1523.42 N,0.01234 mm,1.2345 mm\n184.2341,1524.01 N,0.01235 mm,1.2346 mm\n";
+    FormatConfig ms = us;
+    ms.time_us_per_unit = 1e3;
+    const std::string in_ms = "184233.1,1523.42 N,0.01234 mm,1.2345 mm\n184234.1,1524.01 N,0.01235 mm,1.2346 mm\n";
+    const Run a = run_whole(us, in_us), b = run_whole(s, in_s), c = run_whole(ms, in_ms);
+    REQUIRE(a.samples.size() == 6);
+    REQUIRE(b.samples.size() == 6);
+    REQUIRE(c.samples.size() == 6);
+    for (std::size_t i = 0; i < 6; ++i) {
+        CHECK(b.samples[i].stamp == a.samples[i].stamp);
+        CHECK(c.samples[i].stamp == a.samples[i].stamp);
+        CHECK(b.samples[i].stamp_kind == Stamp::device_us);
+    }
+    check_split_invariance(s, in_s);
+    // A signed, spelled or exponent time is no stamp: the record is bad.
+    const Run bad = run_whole(s, "-1.5,1 N,1 mm,1 mm\nnan,1 N,1 mm,1 mm\n1e3,1 N,1 mm,1 mm\n");
+    CHECK(bad.samples.empty());
+    CHECK(bad.counters.stream.bad_records == 3);
+}
+
 TEST_CASE("lines: bad configuration is refused at start-up", "[lines][config]") {
     const auto reg = builtin_formats();
     FormatConfig cfg = three_channels();

@@ -119,6 +119,8 @@ TEST_CASE("config: bad entries name the key and the expected value", "[config]")
           "output.lamp.source: expected a serial source (RTS/DTR exist only on serial ports), got \"ext\"");
     CHECK(error_of(with("kind = \"tcp\"", "kind = \"udp\"")) ==
           "source.ext.kind (line 23): expected one of \"serial\", \"tcp\", \"replay\", got \"udp\"");
+    CHECK(error_of(with("time_field = 0", "time_field = 0\ntime_unit = \"hours\"")) ==
+          "source.load.time_unit (line 12): expected the unit of the device time: \"us\", \"ms\" or \"s\", got \"hours\"");
     // The format's own checks come back under the source's key.
     CHECK(error_of(with("time_field = 0", "counter_field = 0")) ==
           "source.load: lines format: counter_field needs nominal_rate_hz > 0");
