@@ -52,6 +52,7 @@ struct FormatConfig {
     std::optional<int> time_field;     // field holding device time (in time units, µs by default)
     std::optional<int> counter_field;  // field holding a sample counter
     int field_count = 0;               // fields per record; 0 = highest configured position + 1
+    bool decimal_comma = false;        // values written "1523,4" (needs a separator other than ',')
     // keyvalue
     std::string time_key = "t";
     std::string counter_key;           // empty = none

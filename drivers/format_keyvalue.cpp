@@ -28,6 +28,8 @@ public:
     explicit KeyValueParser(FormatConfig cfg) : TextLineParser(std::move(cfg)) {
         if (config_.channels.empty() || config_.channels.size() > max_channels)
             throw std::invalid_argument("keyvalue format: give 1 to 64 channels");
+        if (config_.decimal_comma)
+            throw std::invalid_argument("keyvalue format: decimal_comma is not available (pairs may be separated by commas)");
         for (std::size_t i = 0; i < config_.channels.size(); ++i) {
             const auto& k = config_.channels[i].key;
             if (k.empty() || k.find_first_of("=, \t") != std::string::npos)

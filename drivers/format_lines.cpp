@@ -42,6 +42,8 @@ public:
         if (config_.counter_field && !(config_.nominal_rate_hz > 0))
             throw std::invalid_argument("lines format: counter_field needs nominal_rate_hz > 0");
         for (const auto& ch : config_.channels) use(ch.field, ("field of channel " + ch.name).c_str());
+        if (config_.decimal_comma && config_.separator == ',')
+            throw std::invalid_argument("lines format: decimal_comma needs a separator other than ',' (\";\", tab or space)");
         if (config_.channels.empty() || config_.channels.size() > max_fields)
             throw std::invalid_argument("lines format: give 1 to 64 channels");
         field_count_ = config_.field_count > 0 ? static_cast<std::size_t>(config_.field_count)
@@ -108,7 +110,8 @@ private:
         }
         const std::size_t nch = config_.channels.size();
         for (std::size_t c = 0; c < nch; ++c) {
-            r.readings[c] = read_value(f[static_cast<std::size_t>(config_.channels[c].field)], config_.channels[c].unit);
+            r.readings[c] = read_value(f[static_cast<std::size_t>(config_.channels[c].field)], config_.channels[c].unit,
+                                       config_.decimal_comma);
             if (r.readings[c].kind == ReadingKind::bad) return discard(line.size(), true);
         }
         accept(r, out);

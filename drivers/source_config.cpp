@@ -115,6 +115,7 @@ SourceConfig load_source(const toml::table& t, const std::string& path, const Pa
     f.max_line = static_cast<std::size_t>(r.integer("max_line", 16, 65536, "the longest accepted line in bytes, 16 to 65536").value_or(512));
     f.nominal_rate_hz = r.number("nominal_rate_hz", 0, 1e6, "the device's sampling rate in Hz").value_or(0);
     f.keep_nan = r.flag("keep_nan").value_or(false);
+    f.decimal_comma = r.flag("decimal_comma").value_or(false);
 
     s.time.latency_s = r.number("latency_ms", 0, 10000, "the smallest transport delay in milliseconds, 0 to 10000").value_or(0) * ms;
     s.time.clock_pace = r.number("clock_pace", 0.001, 1000,

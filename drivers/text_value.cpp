@@ -13,9 +13,19 @@ std::string_view trim(std::string_view s) {
     return s;
 }
 
-Reading read_value(std::string_view field, const ChannelUnit& unit) {
+Reading read_value(std::string_view field, const ChannelUnit& unit, bool decimal_comma) {
     field = trim(field);
     if (field.empty()) return {};
+    if (decimal_comma) {
+        if (const auto comma = field.find(','); comma != std::string_view::npos) {
+            // A copy with a point instead; a second comma stays and makes the field bad.
+            char buf[96];
+            if (field.size() > sizeof buf) return {};
+            field.copy(buf, field.size());
+            buf[comma] = '.';
+            return read_value(std::string_view(buf, field.size()), unit, false);
+        }
+    }
     if (field == "OVER" || field == "----") return {ReadingKind::overload, 0.0};
     // nan, NaN, -nan: std::from_chars reads them (case-insensitively) as NaN, handled below.
 

@@ -13,7 +13,10 @@ namespace tensile::drivers {
 
 // `field` is trimmed of spaces and tabs first. A unit suffix must be one of the
 // channel's quantity (N, kN, lbf, kgf / mm, um, in); anything else is bad.
-Reading read_value(std::string_view field, const ChannelUnit& unit);
+// With `decimal_comma`, one ',' in the number is its decimal mark ("1523,4 N",
+// as many European indicators send it); the caller makes sure ',' is not also
+// the field separator.
+Reading read_value(std::string_view field, const ChannelUnit& unit, bool decimal_comma = false);
 
 // Unsigned decimal integer (device time in µs or a counter), trimmed.
 std::optional<std::uint64_t> read_unsigned(std::string_view field);

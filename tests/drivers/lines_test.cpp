@@ -248,6 +248,30 @@ TEST_CASE("lines: device time in seconds or milliseconds reads to the same µs s
     CHECK(bad.counters.stream.bad_records == 3);
 }
 
+// Decimal commas (common practice on European indicators, from memory):
+// "1523,4" is 1523.4 when the config says so and the separator is not ','.
+TEST_CASE("lines: decimal commas with a semicolon separator", "[lines]") {
+    FormatConfig cfg = three_channels();
+    cfg.separator = ';';
+    cfg.decimal_comma = true;
+    const std::string in = "184233100;1523,42 N;0,01234 mm;1,2345\n184234100;1,52442 kN;12,35um;-0,5\n";
+    const Run r = run_whole(cfg, in);
+    REQUIRE(r.samples.size() == 6);
+    CHECK(r.samples[0].value == 1523.42);
+    CHECK(r.samples[1].value == 0.01234);
+    CHECK(r.samples[3].value == Approx(1524.42).epsilon(1e-12));  // kN → N
+    CHECK(r.samples[5].value == -0.5);
+    check_split_invariance(cfg, in);
+    // Two commas in one number is no number; without the setting a comma is refused.
+    CHECK(run_whole(cfg, "1;1,2,3;1;1\n").counters.stream.bad_records == 1);
+    cfg.decimal_comma = false;
+    CHECK(run_whole(cfg, in).samples.empty());
+    // With ',' as the separator a decimal comma cannot be told from it.
+    FormatConfig clash = three_channels();
+    clash.decimal_comma = true;
+    CHECK_THROWS_WITH(builtin_formats().make(clash), Catch::Contains("decimal_comma needs a separator other than ','"));
+}
+
 TEST_CASE("lines: bad configuration is refused at start-up", "[lines][config]") {
     const auto reg = builtin_formats();
     FormatConfig cfg = three_channels();
