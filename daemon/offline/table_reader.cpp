@@ -235,22 +235,6 @@ std::optional<std::size_t> footer_lines(std::string_view rest) {
     return words;
 }
 
-// MPa per unit of a stress column (NIST SP 811: 1 psi = 6.894 757 kPa).
-std::optional<double> stress_factor(std::string_view u) {
-    if (u == "MPa" || u == "N/mm2" || u == "N/mm²" || u == "N/mm^2") return 1.0;
-    if (u == "psi") return 6.894757e-3;
-    if (u == "ksi") return 6.894757;
-    if (u == "GPa") return 1000.0;
-    return std::nullopt;
-}
-
-// Fraction per unit of a strain column.
-std::optional<double> strain_factor(std::string_view u) {
-    if (u == "%" || u == "pct") return 0.01;
-    if (u == "mm/mm" || u == "in/in" || u == "-" || u == "1") return 1.0;
-    return std::nullopt;
-}
-
 // A stress column stands in for force only with S0 known, a strain column
 // for extension only with L0 known, and each only with its unit stated: a
 // bare 'strain' could be a fraction or a percentage, and a guess would scale
@@ -260,7 +244,7 @@ std::optional<std::string> check_stand_ins(const int col[quantities], const std:
     if (col[4] > 0) {
         const std::string where = "column " + std::to_string(col[4]) + " (stress)";
         if (!layout.area_mm2) return where + " stands in for force, which needs the cross-section S0; give it (--area, --width and --thickness...)";
-        auto f = stress_factor(unit[0]);
+        auto f = stress_MPa_per(unit[0]);
         if (!f) return where + (unit[0].empty() ? " gives no unit" : " has unit '" + unit[0] + "', not one we know") +
                        "; expected MPa, N/mm2, psi or ksi in its name (stress_MPa, Stress (MPa)) or in a units row";
         stress_scale = *f;
@@ -269,7 +253,7 @@ std::optional<std::string> check_stand_ins(const int col[quantities], const std:
     if (col[5] > 0) {
         const std::string where = "column " + std::to_string(col[5]) + " (strain)";
         if (!layout.gauge_length_mm) return where + " stands in for extension, which needs the gauge length L0; give it (--gauge-length)";
-        auto f = strain_factor(unit[1]);
+        auto f = strain_per(unit[1]);
         if (!f) return where + (unit[1].empty() ? " gives no unit" : " has unit '" + unit[1] + "', not one we know") +
                        "; expected %, pct, mm/mm, in/in or - in its name (strain_pct, Strain (%)) or in a units row";
         strain_scale = *f;

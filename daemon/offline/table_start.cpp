@@ -52,7 +52,7 @@ constexpr std::array other_units{"%",  "mpa",  "gpa", "kpa", "psi", "ksi", "n/mm
 
 bool is_unit(std::string_view u) {
     if (parse_force_unit(u) || parse_length_unit(u)) return true;
-    if (u == "s" || u == "ms" || u == "min") return true;
+    if (u == "s" || u == "ms" || u == "min" || stress_MPa_per(u) || strain_per(u)) return true;
     std::string lower(u);
     for (auto& c : lower) c = static_cast<char>(c >= 'A' && c <= 'Z' ? c - 'A' + 'a' : c);
     return std::find(other_units.begin(), other_units.end(), lower) != other_units.end();
@@ -67,6 +67,21 @@ std::string_view bare_unit(std::string_view cell) {
         cell.remove_suffix(1);
     }
     return strip(cell);
+}
+
+// NIST SP 811: 1 psi = 6.894 757 kPa.
+std::optional<double> stress_MPa_per(std::string_view u) {
+    if (u == "MPa" || u == "N/mm2" || u == "N/mm²" || u == "N/mm^2") return 1.0;
+    if (u == "psi") return 6.894757e-3;
+    if (u == "ksi") return 6.894757;
+    if (u == "GPa") return 1000.0;
+    return std::nullopt;
+}
+
+std::optional<double> strain_per(std::string_view u) {
+    if (u == "%" || u == "pct") return 0.01;
+    if (u == "mm/mm" || u == "in/in" || u == "-" || u == "1") return 1.0;
+    return std::nullopt;
 }
 
 bool is_units_row(std::string_view line, char sep) {

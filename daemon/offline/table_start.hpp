@@ -3,7 +3,8 @@
 // "CSV UTF-8" exports), lines of notes before the column names (specimen,
 // operator, date, machine settings), and a row of units under the names
 // ("s,kN,mm"). The reader starts at the header this finds and takes the units
-// row's units for columns whose names carry none.
+// row's units for columns whose names carry none. Also the units a column
+// may carry that the engine's own units (engine/units.hpp) do not cover.
 //
 // The rule: the header is the last text line before the first data row (a
 // line whose first cell is a number); when that line holds only units and a
@@ -16,6 +17,7 @@
 #pragma once
 
 #include <cstddef>
+#include <optional>
 #include <string_view>
 
 namespace tensile {
@@ -39,5 +41,11 @@ bool is_units_row(std::string_view line, char sep);
 // A unit written in a units-row cell or in a header's brackets, without the
 // brackets, quotes and spaces around it ("[kN]" → "kN", "(mm)" → "mm").
 std::string_view bare_unit(std::string_view cell);
+
+// MPa per unit of a stress column (MPa, N/mm2, psi, ksi, GPa) and the
+// fraction per unit of a strain column (%, pct, mm/mm, in/in, -); nullopt
+// for anything else.
+std::optional<double> stress_MPa_per(std::string_view unit);
+std::optional<double> strain_per(std::string_view unit);
 
 }  // namespace tensile
