@@ -160,6 +160,11 @@ public:
         populate_upto(offset + 2 * step);
     }
 
+    // Maps the file's pages in up to `offset` in one call per quarter step
+    // (MADV_POPULATE_READ, Linux 5.14+), instead of one page fault per 64 KB
+    // as the reader walks in: on a virtual machine a fault costs microseconds.
+    // At most two steps (16 MB) ahead of the reader are resident beyond what
+    // release_before keeps, so memory stays bounded by the same few steps.
     void populate_upto(std::size_t offset) {
 #ifdef MADV_POPULATE_READ
         static const auto page = static_cast<std::size_t>(::sysconf(_SC_PAGESIZE));
