@@ -44,15 +44,19 @@ std::string write_run(const std::string& name, const std::vector<tensile::Frame>
     }
     return path.string();
 }
-}  // namespace
-
-TEST_CASE("analyze reads a recorded run and reports Rp0.2 and Rm as JSON") {
+// 6061-T6-like (E 68.9 GPa, Rp0.2 276 MPa, Hill's n 12) at 200 Hz, class 0.5 noise.
+std::vector<tensile::Frame> aluminium_like_run() {
     RigSettings rig;
     rig.rate_hz = 200;
     rig.fracture_strain = 0.25;
     rig.force_noise_share = 0.0005;
     rig.extension_noise_mm = 0.0003;
-    const auto path = write_run("tensiled-analyze-hill.csv", make_run(hill_curve(68900, 276, 12), rig));
+    return make_run(hill_curve(68900, 276, 12), rig);
+}
+}  // namespace
+
+TEST_CASE("analyze reads a recorded run and reports Rp0.2 and Rm as JSON") {
+    const auto path = write_run("tensiled-analyze-hill.csv", aluminium_like_run());
     const auto r = run("analyze " + path + " --width 20 --thickness 4 --gauge-length 80 --json");
     REQUIRE(r.code == 0);
     const auto j = nlohmann::json::parse(r.out);
@@ -68,12 +72,7 @@ TEST_CASE("analyze reads a recorded run and reports Rp0.2 and Rm as JSON") {
 // The same test written as stress and strain (σ = F/S0, e = ΔL/L0, ISO 6892-1
 // §3) must give the same answers as written in force and extension.
 TEST_CASE("analyze gives the same results from a stress-strain table as from force and extension") {
-    RigSettings rig;
-    rig.rate_hz = 200;
-    rig.fracture_strain = 0.25;
-    rig.force_noise_share = 0.0005;
-    rig.extension_noise_mm = 0.0003;
-    const auto frames = make_run(hill_curve(68900, 276, 12), rig);
+    const auto frames = aluminium_like_run();
     const auto plain = write_run("tensiled-analyze-plain.csv", frames);
     const auto path = (std::filesystem::temp_directory_path() / "tensiled-analyze-stress.csv").string();
     {
