@@ -26,14 +26,17 @@ constexpr std::size_t first_chunk_frames = 1024;
 // one page fault per 4 KB on the reading thread; one MADV_POPULATE_WRITE call
 // maps the whole buffer in at once, several times cheaper where faults are
 // dear (virtual machines). Kernels before Linux 5.14 refuse it: no change.
-void map_in(std::vector<Frame>& v) {
+// Only the frames the chunk will hold: the first chunks are handed over
+// small, and mapping their unused tails in would only add resident memory.
+void map_in(std::vector<Frame>& v, std::size_t frames) {
 #ifdef MADV_POPULATE_WRITE
     static const auto page = static_cast<std::uintptr_t>(::sysconf(_SC_PAGESIZE));
     const auto from = (reinterpret_cast<std::uintptr_t>(v.data()) + page - 1) / page * page;
-    const auto to = (reinterpret_cast<std::uintptr_t>(v.data() + v.capacity())) / page * page;
+    const auto to = (reinterpret_cast<std::uintptr_t>(v.data() + std::min(frames, v.capacity()))) / page * page;
     if (to > from) ::madvise(reinterpret_cast<void*>(from), to - from, MADV_POPULATE_WRITE);
 #else
     (void)v;
+    (void)frames;
 #endif
 }
 
@@ -60,12 +63,13 @@ public:
         std::lock_guard lock(mutex_);
         spare_.push_back(std::move(chunk));
     }
-    std::vector<Frame> fresh() {
+    // A chunk to fill with up to `frames` frames.
+    std::vector<Frame> fresh(std::size_t frames) {
         std::lock_guard lock(mutex_);
         if (spare_.empty()) {
             std::vector<Frame> v;
             v.reserve(chunk_frames);
-            map_in(v);
+            map_in(v, frames);
             return v;
         }
         auto v = std::move(spare_.back());
@@ -91,7 +95,7 @@ struct ChunkingSink : FrameSink {
     FrameSink& consumer;
     std::vector<Frame> chunk;
     std::size_t limit = first_chunk_frames;  // frames in the chunk being filled
-    ChunkingSink(ChunkQueue& q, FrameSink& c) : queue(q), consumer(c), chunk(q.fresh()) {}
+    ChunkingSink(ChunkQueue& q, FrameSink& c) : queue(q), consumer(c), chunk(q.fresh(first_chunk_frames)) {}
     void passed(std::size_t offset) override { consumer.passed(offset); }
     void take(const Frame& f) override {
         chunk.push_back(f);
@@ -107,8 +111,8 @@ struct ChunkingSink : FrameSink {
     }
     void hand_over() {
         queue.push(std::move(chunk));
-        chunk = queue.fresh();
         limit = std::min(2 * limit, chunk_frames);
+        chunk = queue.fresh(limit);
     }
     void flush() {
         if (!chunk.empty()) queue.push(std::move(chunk));
