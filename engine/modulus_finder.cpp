@@ -14,12 +14,19 @@ namespace {
 
 constexpr std::size_t min_points = 8;
 
+// Standard error of a slope: residual SD over √Σ(x − mean x)²; the fit has
+// that sum already (x is the stress here).
+double slope_se(const LineFit& f) { return f.x_spread > 0 ? f.residual_sd / std::sqrt(f.x_spread) : INFINITY; }
+
 struct Candidate {
     double low, high;
     std::size_t first, last;
     LineFit line;       // strain on stress
     bool straight;      // its two halves agree in slope
     [[nodiscard]] double E() const { return 1.0 / line.slope; }
+    // The low end of E's two-standard-error interval: steepness that noise
+    // alone is unlikely to have made.
+    [[nodiscard]] double E_low() const { return 1.0 / (line.slope + 2.0 * slope_se(line)); }
 };
 
 std::size_t first_at_or_above(std::span<const double> running_max, double value) {
@@ -55,11 +62,8 @@ std::optional<Candidate> fit_band(std::span<const double> strain, std::span<cons
         const auto& a = fits.first;
         const auto& b = fits.second;
         if (a && b && a->slope > 0 && b->slope > 0) {
-            // Standard error of a slope: residual SD over √Σ(x − mean x)²;
-            // the fit has that sum already (x is the stress here).
-            auto se = [](const LineFit& f) { return f.x_spread > 0 ? f.residual_sd / std::sqrt(f.x_spread) : INFINITY; };
-            const double se_a = se(*a);
-            const double se_b = se(*b);
+            const double se_a = slope_se(*a);
+            const double se_b = slope_se(*b);
             const double diff = std::abs(a->slope - b->slope);
             c.straight = diff <= tolerance * line->slope || diff <= 3.0 * std::hypot(se_a, se_b);
         }
@@ -105,22 +109,34 @@ std::optional<ModulusFit> find_modulus(std::span<const double> strain, std::span
         if (auto c = fit_band(strain, stress, running_max, low, low + width, tolerance)) bands.push_back(*c);
     if (bands.empty()) return std::nullopt;
 
-    // The steepest straight band that also fits at least as well as the
-    // profile asks; failing that, the steepest straight one; failing that, the
-    // best-fitting one.
-    auto pick = [&](auto&& accept) {
+    // The steepest straight band that also fits as well as the profile asks;
+    // failing that, the steepest straight one; failing that, the best-fitting
+    // one. Another band takes its place only when even the low end of its
+    // confidence interval is twice as steep. A plastic stretch with linear
+    // hardening (a tangent modulus of a few % of E, common practice) is
+    // straight and fits well over its long strain span, yet is no modulus;
+    // on a curve that bends from the first MPa (annealed copper) no band is
+    // straight and the best-fitting one lies high in the plastic part. A
+    // noisy band at the foot, steeper by chance, is seldom twice as steep at
+    // the low end of its interval.
+    auto pick = [&](auto&& accept, auto&& score) {
         std::size_t best = bands.size();
         for (std::size_t i = 0; i < bands.size(); ++i)
-            if (accept(bands[i]) && (best == bands.size() || bands[i].E() > bands[best].E())) best = i;
+            if (accept(bands[i]) && (best == bands.size() || score(bands[i]) > score(bands[best]))) best = i;
         return best;
     };
-    std::size_t best = pick([&](const Candidate& c) { return c.straight && c.line.r2 >= profile.modulus_min_r2; });
-    if (best == bands.size()) best = pick([](const Candidate& c) { return c.straight; });
-    if (best == bands.size()) {
-        best = 0;
-        for (std::size_t i = 1; i < bands.size(); ++i)
-            if (bands[i].line.r2 > bands[best].line.r2) best = i;
-    }
+    const std::size_t none = bands.size();
+    auto E = [](const Candidate& c) { return c.E(); };
+    auto E_low = [](const Candidate& c) { return c.E_low(); };
+    auto r2 = [](const Candidate& c) { return c.line.r2; };
+    auto straight = [](const Candidate& c) { return c.straight; };
+    auto any = [](const Candidate&) { return true; };
+    std::size_t best = pick([&](const Candidate& c) { return c.straight && c.line.r2 >= profile.modulus_min_r2; }, E);
+    if (best == none) best = pick(straight, E);
+    if (best == none) best = pick(any, r2);
+    std::size_t steep = pick(straight, E_low);
+    if (steep == none) steep = pick(any, E_low);
+    if (bands[steep].E_low() > 2.0 * bands[best].E()) best = steep;
 
     // Widen to contiguous straight neighbours of nearly the same slope, which
     // averages the noise that made one band the steepest.

@@ -1,8 +1,10 @@
 // Finds the modulus E on the rising part of a stress–strain curve: either over
 // a fixed stress window, or automatically as the steepest stress band that is
 // straight (its two halves agree in slope), widened to neighbours of nearly the
-// same slope. Works for curves with a toe (slack) and a preload, and for soft
-// alloys whose linear part ends far below Rm.
+// same slope, unless a band twice as steep at the low end of its confidence
+// interval shows that the straight one is plastic flow. Works for curves with
+// a toe (slack) and a preload, for linear hardening, and for soft alloys whose
+// linear part ends far below Rm or that bend from the first MPa.
 //
 // Strain is regressed on stress and E taken as the reciprocal: at low stress
 // the extensometer's noise is large against the strain range while the load
