@@ -2,6 +2,7 @@
 #include "table_reader.hpp"
 
 #include "plain_number.hpp"
+#include "table_cells.hpp"
 #include "table_start.hpp"
 
 #include <algorithm>
@@ -15,16 +16,14 @@ namespace tensile {
 
 namespace {
 
+using table_cells::parse_fast;
+using table_cells::parse_number;
+using table_cells::trim;
+
 std::string lower(std::string_view s) {
     std::string out(s);
     for (auto& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
     return out;
-}
-
-std::string_view trim(std::string_view s) {
-    while (!s.empty() && (s.front() == ' ' || s.front() == '\t' || s.front() == '"')) s.remove_prefix(1);
-    while (!s.empty() && (s.back() == ' ' || s.back() == '\t' || s.back() == '\r' || s.back() == '"')) s.remove_suffix(1);
-    return s;
 }
 
 // Splits on `sep`, reusing `cells`.
@@ -73,35 +72,6 @@ HeaderColumn understand(std::string_view raw) {
     else if (key == "stress" || key == "engineering stress" || key == "tensile stress") c.quantity = Quantity::stress;
     else if (key == "strain" || key == "engineering strain" || key == "tensile strain") c.quantity = Quantity::strain;
     return c;
-}
-
-// The common case without copying: a plain decimal number (plain_number.hpp)
-// ending at the separator or `end`. False sends the cell to the careful path.
-inline bool parse_fast(const char* p, const char* end, char sep, bool decimal_comma, double& out, const char*& stop) {
-    const char* q = plain_number::read(p, end, decimal_comma ? ',' : '.', out);
-    if (!q || (q < end && *q != sep)) return false;
-    stop = q;
-    return true;
-}
-
-// Any cell: the fast path below, then std::from_chars for what it leaves
-// (exponents, long mantissas), which also refuses nan and inf.
-bool parse_number(std::string_view cell, bool decimal_comma, double& out) {
-    const char* stop = nullptr;
-    if (parse_fast(cell.data(), cell.data() + cell.size(), '\0', decimal_comma, out, stop)) return true;
-    char buf[64];
-    if (cell.size() >= sizeof buf) return false;
-    std::size_t n = 0;
-    for (char c : cell) buf[n++] = decimal_comma && c == ',' ? '.' : c;
-    // from_chars takes no '+'; one is allowed before digits (strtod's
-    // grammar), never before another sign ("+-1" is not a number).
-    const char* first = buf;
-    if (n > 1 && buf[0] == '+') {
-        if (buf[1] == '-') return false;
-        ++first;
-    }
-    auto [ptr, ec] = std::from_chars(first, buf + n, out);
-    return ec == std::errc() && ptr == buf + n && std::isfinite(out);
 }
 
 std::string show(std::string_view cell) {
@@ -239,24 +209,37 @@ std::optional<std::size_t> footer_lines(std::string_view rest) {
 // for extension only with L0 known, and each only with its unit stated: a
 // bare 'strain' could be a fraction or a percentage, and a guess would scale
 // every strain result by 100.
+// One stand-in column: its unit gives `scale`, or the message says what is
+// missing (the specimen dimension it needs, or a unit we know).
+std::optional<std::string> check_stand_in(int column, const char* name, const std::string& unit, bool dimension_given,
+                                          const char* stands_for, const char* give,
+                                          std::optional<double> (*scale_of)(std::string_view), const char* expected,
+                                          double& scale) {
+    const std::string where = "column " + std::to_string(column) + " (" + name + ")";
+    if (!dimension_given) return where + " stands in for " + stands_for + "; give it (" + give + ")";
+    const auto factor = scale_of(unit);
+    if (!factor)
+        return where + (unit.empty() ? " gives no unit" : " has unit '" + unit + "', not one we know") + "; expected " +
+               expected + " or in a units row";
+    scale = *factor;
+    return std::nullopt;
+}
+
 std::optional<std::string> check_stand_ins(const int col[quantities], const std::string unit[2], const TableLayout& layout,
                                            double& stress_scale, double& strain_scale, std::vector<std::string>& notes) {
     if (col[4] > 0) {
-        const std::string where = "column " + std::to_string(col[4]) + " (stress)";
-        if (!layout.area_mm2) return where + " stands in for force, which needs the cross-section S0; give it (--area, --width and --thickness...)";
-        auto f = stress_MPa_per(unit[0]);
-        if (!f) return where + (unit[0].empty() ? " gives no unit" : " has unit '" + unit[0] + "', not one we know") +
-                       "; expected MPa, N/mm2, psi or ksi in its name (stress_MPa, Stress (MPa)) or in a units row";
-        stress_scale = *f;
+        if (auto bad = check_stand_in(col[4], "stress", unit[0], layout.area_mm2.has_value(),
+                                      "force, which needs the cross-section S0", "--area, --width and --thickness...",
+                                      stress_MPa_per, "MPa, N/mm2, psi or ksi in its name (stress_MPa, Stress (MPa))",
+                                      stress_scale))
+            return bad;
         notes.push_back("force from the stress column × S0");
     }
     if (col[5] > 0) {
-        const std::string where = "column " + std::to_string(col[5]) + " (strain)";
-        if (!layout.gauge_length_mm) return where + " stands in for extension, which needs the gauge length L0; give it (--gauge-length)";
-        auto f = strain_per(unit[1]);
-        if (!f) return where + (unit[1].empty() ? " gives no unit" : " has unit '" + unit[1] + "', not one we know") +
-                       "; expected %, pct, mm/mm, in/in or - in its name (strain_pct, Strain (%)) or in a units row";
-        strain_scale = *f;
+        if (auto bad = check_stand_in(col[5], "strain", unit[1], layout.gauge_length_mm.has_value(),
+                                      "extension, which needs the gauge length L0", "--gauge-length", strain_per,
+                                      "%, pct, mm/mm, in/in or - in its name (strain_pct, Strain (%))", strain_scale))
+            return bad;
         notes.push_back("extension from the strain column × L0");
     }
     return std::nullopt;

@@ -3,21 +3,16 @@
 
 #include <algorithm>
 #include <array>
-#include <charconv>
 #include <vector>
 
 #include "engine/units.hpp"
+#include "table_cells.hpp"
 
 namespace tensile {
 
 namespace {
 
-std::string_view strip(std::string_view s) {
-    const auto junk = [](char c) { return c == ' ' || c == '\t' || c == '"' || c == '\r'; };
-    while (!s.empty() && junk(s.front())) s.remove_prefix(1);
-    while (!s.empty() && junk(s.back())) s.remove_suffix(1);
-    return s;
-}
+using table_cells::trim;
 
 // The separator a line uses, as the reader decides it: tab, then ';', then ','.
 char separator_of(std::string_view line) {
@@ -27,20 +22,15 @@ char separator_of(std::string_view line) {
 }
 
 std::string_view first_cell(std::string_view line, char sep) {
-    return strip(line.substr(0, line.find(sep)));
+    return trim(line.substr(0, line.find(sep)));
 }
 
-// A number as a data row starts with one: optional sign, digits with at most
-// one point or (with a separator other than ',') one decimal comma, and an
-// optional exponent. Dates ("2024-01-02") and times ("12:00:01") are not.
+// A number as a data row starts with one, read as the row reader reads it
+// (a decimal comma with any separator but ','). Dates ("2024-01-02") and
+// times ("12:00:01") are not.
 bool looks_numeric(std::string_view cell, char sep) {
-    if (cell.empty()) return false;
-    std::string buf(cell);
-    if (sep != ',') std::replace(buf.begin(), buf.end(), ',', '.');
-    const char* first = buf.data() + (buf[0] == '+' ? 1 : 0);
-    double v = 0;
-    const auto [end, ec] = std::from_chars(first, buf.data() + buf.size(), v);
-    return ec == std::errc() && end == buf.data() + buf.size();
+    double ignored = 0;
+    return !cell.empty() && table_cells::parse_number(cell, sep != ',', ignored);
 }
 
 // Units a units row may hold besides the reader's own force, length and time
@@ -61,12 +51,12 @@ bool is_unit(std::string_view u) {
 }  // namespace
 
 std::string_view bare_unit(std::string_view cell) {
-    cell = strip(cell);
+    cell = trim(cell);
     if (cell.size() >= 2 && ((cell.front() == '[' && cell.back() == ']') || (cell.front() == '(' && cell.back() == ')'))) {
         cell.remove_prefix(1);
         cell.remove_suffix(1);
     }
-    return strip(cell);
+    return trim(cell);
 }
 
 // NIST SP 811: 1 psi = 6.894 757 kPa.
@@ -116,7 +106,7 @@ TableStart locate_table(std::string_view text) {
         const std::size_t at = pos;
         pos = nl + 1;
         if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
-        if (strip(line).empty() || line.front() == '#') continue;
+        if (trim(line).empty() || line.front() == '#') continue;
         const char sep = separator_of(line);
         if (!looks_numeric(first_cell(line, sep), sep)) {
             text_lines.push_back({at, index, line});
