@@ -32,6 +32,9 @@ step=${1:-}; shift || true
 case "$step" in
 build)
     src=$1 tree=$2 launcher=$3; shift 3
+    # Run from the main build (TENSILED_SANITIZER_TREE): the outer make's
+    # jobserver is not ours; the tree takes its own two jobs.
+    unset MAKEFLAGS MFLAGS MAKELEVEL
     t0=$(now)
     args=(-S "$src" -B "$tree" -DCMAKE_BUILD_TYPE=RelWithDebInfo -DTENSILED_SANITIZE=ON -DTENSILED_FUZZ_STANDALONE=ON
           # -O0 -g0: the build is compile-bound and the instrumented tests
