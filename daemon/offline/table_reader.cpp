@@ -49,28 +49,76 @@ struct HeaderColumn {
     std::string unit;  // as written, lower case; empty when none
 };
 
+// The lower-case words of a column name ("Crosshead position 1" → crosshead,
+// position, 1).
+std::vector<std::string> words_of(std::string_view name) {
+    std::vector<std::string> words;
+    std::string word;
+    for (char ch : name) {
+        if (std::isalnum(static_cast<unsigned char>(ch))) {
+            word += static_cast<char>(std::tolower(static_cast<unsigned char>(ch)));
+        } else if (!word.empty()) {
+            words.push_back(std::move(word));
+            word.clear();
+        }
+    }
+    if (!word.empty()) words.push_back(std::move(word));
+    return words;
+}
+
+// What a column name says, by its words: instruments and spreadsheets name
+// the same channel many ways ("Force", "Load (kN)", "Standard force [kN]",
+// "Test time (s)", "Crosshead position", "Displacement", "Strain 1 (%)").
+// Derived or other channels are left alone: true stress and strain, rates
+// and speeds, energies, temperatures, peaks, counters. A name that says
+// nothing we know stays `other`, and the caller asks for --columns.
+Quantity quantity_named(const std::vector<std::string>& words) {
+    const auto has = [&](std::initializer_list<std::string_view> any) {
+        return std::any_of(words.begin(), words.end(), [&](const std::string& w) {
+            return std::find(any.begin(), any.end(), w) != any.end();
+        });
+    };
+    if (words.empty()) return Quantity::other;
+    if (has({"true", "rate", "speed", "velocity", "energy", "work", "temperature", "temp", "max", "maximum", "peak",
+             "min", "minimum", "cycle", "cycles", "count", "index", "sample", "no", "number", "step"}))
+        return Quantity::other;
+    if (words.size() == 1) {  // the short names of our own tables
+        if (words[0] == "t") return Quantity::time;
+        if (words[0] == "f") return Quantity::force;
+        if (words[0] == "xh") return Quantity::crosshead;
+        if (words[0] == "ext") return Quantity::extension;
+    }
+    // The crosshead first: "crosshead extension" is the crosshead's.
+    if (has({"crosshead", "position", "displacement", "stroke", "actuator"})) return Quantity::crosshead;
+    if (has({"extension", "extensometer"})) return Quantity::extension;
+    if (has({"force", "load"})) return Quantity::force;
+    if (has({"stress"})) return Quantity::stress;
+    if (has({"strain"})) return Quantity::strain;
+    if (has({"time"})) return Quantity::time;
+    return Quantity::other;
+}
+
 // "force_kN", "Force [kN]", "force (kN)", "F" → force in kN.
 HeaderColumn understand(std::string_view raw) {
     // Names compare in lower case; units keep their case (SI: mN is not MN).
     std::string_view name = trim(raw);
     std::string_view unit;
-    if (auto open = name.find_first_of("[("); open != std::string_view::npos) {
+    // The unit is in the last brackets: "Tensile strain (Strain 1) (%)".
+    if (auto open = name.find_last_of("[("); open != std::string_view::npos) {
         const auto close = name.find_first_of("])", open);
         unit = trim(name.substr(open + 1, close == std::string_view::npos ? std::string_view::npos : close - open - 1));
         name = trim(name.substr(0, open));
     } else if (auto us = name.rfind('_'); us != std::string_view::npos) {
-        unit = name.substr(us + 1);
-        name = name.substr(0, us);
+        // "time_s" ends in its unit; "test_time" in a word of its name.
+        const auto tail = name.substr(us + 1);
+        if (quantity_named(words_of(tail)) == Quantity::other) {
+            unit = tail;
+            name = name.substr(0, us);
+        }
     }
-    const std::string key = lower(name);
     HeaderColumn c;
     c.unit = std::string(unit);
-    if (key == "time" || key == "t") c.quantity = Quantity::time;
-    else if (key == "force" || key == "load" || key == "f") c.quantity = Quantity::force;
-    else if (key == "extension" || key == "ext" || key == "extensometer") c.quantity = Quantity::extension;
-    else if (key == "crosshead" || key == "position" || key == "xh") c.quantity = Quantity::crosshead;
-    else if (key == "stress" || key == "engineering stress" || key == "tensile stress") c.quantity = Quantity::stress;
-    else if (key == "strain" || key == "engineering strain" || key == "tensile strain") c.quantity = Quantity::strain;
+    c.quantity = quantity_named(words_of(name));
     return c;
 }
 

@@ -43,6 +43,38 @@ TEST_CASE("units in the header convert by the NIST SP 811 factors") {
     CHECK(kn->frames[0].extension_mm == Approx(0.25));
 }
 
+TEST_CASE("column names are read by their words, and derived channels are left alone") {
+    // Names of the kind instruments and spreadsheets write (our own examples):
+    // a counter, the test time, two force-like channels of which only the
+    // measured one counts, a numbered strain channel with its unit in the
+    // last brackets, the crosshead as "displacement", rates and true values.
+    const auto t = read_table(
+        "Sample no,Test time (s),Load cell temp (C),Load (kN),Crosshead speed (mm/min),Displacement (mm),"
+        "Extension rate (mm/s),Extensometer 1 (mm),True stress (MPa),Peak load (kN)\n"
+        "1,0.5,21.0,1.5,2.0,0.20,0.01,0.05,20.0,1.5\n");
+    REQUIRE(t);
+    REQUIRE(t->frames.size() == 1);
+    CHECK(t->frames[0].time_s == 0.5);
+    CHECK(t->frames[0].force_N == Approx(1500));
+    CHECK(t->frames[0].crosshead_mm == 0.20);
+    CHECK(t->frames[0].extension_mm == 0.05);
+
+    // "crosshead extension" is the crosshead's; "test_time" ends in a word of
+    // its name, not a unit.
+    const auto u = read_table("test_time,standard_force_N,crosshead_extension_mm,extension_mm\n2,10,0.3,0.1\n");
+    REQUIRE(u);
+    CHECK(u->frames[0].time_s == 2);
+    CHECK(u->frames[0].force_N == 10);
+    CHECK(u->frames[0].crosshead_mm == 0.3);
+    CHECK(u->frames[0].extension_mm == 0.1);
+
+    // A name that says nothing we know is no column of ours: the reader asks
+    // for the columns rather than guess.
+    const auto none = read_table("a,b,c\n1,2,3\n");
+    REQUIRE_FALSE(none);
+    CHECK_THAT(none.error(), Catch::Contains("--columns"));
+}
+
 TEST_CASE("tab separators, decimal commas and column numbers") {
     const auto t = read_table("# exported by a data logger\n1\t0,5\t200,5\t0,1\n2\t1,0\t201\t0,2\n",
                               *parse_column_spec("time=2,force=3,extension=4"));
